@@ -1,0 +1,284 @@
+//! The state of the body: layout of the state vector, named accessors and
+//! the mass-balance ledger.
+//!
+//! Water volumes are litres of water; solute pools are mmol (albumin and
+//! globulins in grams, cell osmoles in mOsm). The ledger entries are
+//! cumulative amounts that entered (`In*`) or left (`Out*`) the body since
+//! the start: the model adds to them exactly what it adds to or removes
+//! from the body, so that for every species
+//! `content(t) = content(0) + in(t) − out(t)` holds to rounding.
+
+/// Index of each entry of the state vector.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[repr(usize)]
+pub enum S {
+    /// Water of tissue cells (brain and red cells excluded), L.
+    CellsL,
+    /// Red-cell water, L.
+    RedCellsL,
+    /// Brain-cell water, L.
+    BrainL,
+    /// Interstitial water, L.
+    InterstitiumL,
+    /// Plasma water, L.
+    PlasmaL,
+    /// Plasma sodium, mmol.
+    NaPlasma,
+    /// Interstitial sodium, mmol.
+    NaInterstitium,
+    /// Plasma potassium, mmol.
+    KPlasma,
+    /// Interstitial potassium, mmol.
+    KInterstitium,
+    /// Tissue-cell potassium, mmol.
+    KCells,
+    /// Plasma glucose, mmol.
+    GlucosePlasma,
+    /// Interstitial glucose, mmol.
+    GlucoseInterstitium,
+    /// Plasma urea, mmol.
+    UreaPlasma,
+    /// Interstitial urea, mmol.
+    UreaInterstitium,
+    /// Urea in tissue- and brain-cell water, mmol.
+    UreaCells,
+    /// Red-cell urea, mmol.
+    UreaRedCells,
+    /// Plasma albumin, g.
+    AlbuminPlasma,
+    /// Interstitial albumin, g.
+    AlbuminInterstitium,
+    /// Plasma globulins (non-albumin protein), g.
+    GlobulinPlasma,
+    /// Red-cell effective osmoles (their mass: falls only with blood loss), mOsm.
+    RedCellOsmoles,
+    /// Adaptive brain osmolytes, mOsm.
+    BrainOsmolytes,
+    /// Cumulative water in, L.
+    InWater,
+    /// Cumulative sodium in, mmol.
+    InNa,
+    /// Cumulative potassium in, mmol.
+    InK,
+    /// Cumulative urea in (intake and generation), mmol.
+    InUrea,
+    /// Cumulative glucose in (intake and production), mmol.
+    InGlucose,
+    /// Cumulative albumin in, g.
+    InAlbumin,
+    /// Cumulative water out, L.
+    OutWater,
+    /// Cumulative sodium out, mmol.
+    OutNa,
+    /// Cumulative potassium out, mmol.
+    OutK,
+    /// Cumulative urea out, mmol.
+    OutUrea,
+    /// Cumulative glucose out (urine and metabolism), mmol.
+    OutGlucose,
+    /// Cumulative albumin out, g.
+    OutAlbumin,
+    /// Cumulative urine volume, L.
+    UrineL,
+}
+
+/// Number of entries in the state vector.
+pub const N_STATES: usize = S::UrineL as usize + 1;
+
+/// Name of each state for messages, in layout order.
+pub const STATE_NAMES: [&str; N_STATES] = [
+    "tissue-cell water",
+    "red-cell water",
+    "brain-cell water",
+    "interstitial water",
+    "plasma water",
+    "plasma sodium",
+    "interstitial sodium",
+    "plasma potassium",
+    "interstitial potassium",
+    "cell potassium",
+    "plasma glucose",
+    "interstitial glucose",
+    "plasma urea",
+    "interstitial urea",
+    "cell urea",
+    "red-cell urea",
+    "plasma albumin",
+    "interstitial albumin",
+    "plasma globulins",
+    "red-cell osmoles",
+    "brain adaptive osmolytes",
+    "cumulative water in",
+    "cumulative sodium in",
+    "cumulative potassium in",
+    "cumulative urea in",
+    "cumulative glucose in",
+    "cumulative albumin in",
+    "cumulative water out",
+    "cumulative sodium out",
+    "cumulative potassium out",
+    "cumulative urea out",
+    "cumulative glucose out",
+    "cumulative albumin out",
+    "cumulative urine",
+];
+
+/// The species the ledger balances.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Species {
+    /// Water, L.
+    Water,
+    /// Sodium, mmol.
+    Sodium,
+    /// Potassium (exchangeable: plasma, interstitium, tissue cells), mmol.
+    Potassium,
+    /// Urea, mmol.
+    Urea,
+    /// Glucose, mmol.
+    Glucose,
+    /// Albumin, g.
+    Albumin,
+}
+
+impl Species {
+    /// All balanced species.
+    pub const ALL: [Species; 6] = [
+        Species::Water,
+        Species::Sodium,
+        Species::Potassium,
+        Species::Urea,
+        Species::Glucose,
+        Species::Albumin,
+    ];
+
+    /// Lower-case name for tables and JSON.
+    pub fn name(self) -> &'static str {
+        match self {
+            Species::Water => "water",
+            Species::Sodium => "sodium",
+            Species::Potassium => "potassium",
+            Species::Urea => "urea",
+            Species::Glucose => "glucose",
+            Species::Albumin => "albumin",
+        }
+    }
+
+    /// Unit of the amounts.
+    pub fn unit(self) -> &'static str {
+        match self {
+            Species::Water => "L",
+            Species::Albumin => "g",
+            _ => "mmol",
+        }
+    }
+
+    fn pools(self) -> &'static [S] {
+        match self {
+            Species::Water => &[
+                S::CellsL,
+                S::RedCellsL,
+                S::BrainL,
+                S::InterstitiumL,
+                S::PlasmaL,
+            ],
+            Species::Sodium => &[S::NaPlasma, S::NaInterstitium],
+            Species::Potassium => &[S::KPlasma, S::KInterstitium, S::KCells],
+            Species::Urea => &[
+                S::UreaPlasma,
+                S::UreaInterstitium,
+                S::UreaCells,
+                S::UreaRedCells,
+            ],
+            Species::Glucose => &[S::GlucosePlasma, S::GlucoseInterstitium],
+            Species::Albumin => &[S::AlbuminPlasma, S::AlbuminInterstitium],
+        }
+    }
+
+    /// Ledger entries (cumulative in, cumulative out) of the species.
+    pub fn ledger(self) -> (S, S) {
+        match self {
+            Species::Water => (S::InWater, S::OutWater),
+            Species::Sodium => (S::InNa, S::OutNa),
+            Species::Potassium => (S::InK, S::OutK),
+            Species::Urea => (S::InUrea, S::OutUrea),
+            Species::Glucose => (S::InGlucose, S::OutGlucose),
+            Species::Albumin => (S::InAlbumin, S::OutAlbumin),
+        }
+    }
+
+    /// Amount of the species held in the body.
+    pub fn content(self, y: &[f64]) -> f64 {
+        self.pools().iter().map(|&s| y[s as usize]).sum()
+    }
+
+    /// Cumulative amount that entered the body.
+    pub fn cumulative_in(self, y: &[f64]) -> f64 {
+        y[self.ledger().0 as usize]
+    }
+
+    /// Cumulative amount that left the body.
+    pub fn cumulative_out(self, y: &[f64]) -> f64 {
+        y[self.ledger().1 as usize]
+    }
+
+    /// Relative mass-balance residual: `(content − content₀ − in + out)`
+    /// divided by the largest of the amounts involved.
+    pub fn residual(self, y0: &[f64], y: &[f64]) -> f64 {
+        let (c0, c) = (self.content(y0), self.content(y));
+        let (i, o) = (self.cumulative_in(y), self.cumulative_out(y));
+        let scale = c0.abs().max(c.abs()).max(i.abs()).max(o.abs()).max(1e-300);
+        (c - c0 - i + o) / scale
+    }
+}
+
+/// A body state: the state vector with named read access.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Body {
+    /// The state vector, laid out as [`S`].
+    pub y: Vec<f64>,
+}
+
+impl Body {
+    /// Value of one state.
+    pub fn get(&self, s: S) -> f64 {
+        self.y[s as usize]
+    }
+
+    /// Total body water, L.
+    pub fn total_water_l(&self) -> f64 {
+        Species::Water.content(&self.y)
+    }
+
+    /// Extracellular water (plasma + interstitium), L.
+    pub fn extracellular_l(&self) -> f64 {
+        self.get(S::PlasmaL) + self.get(S::InterstitiumL)
+    }
+
+    /// Intracellular water (tissue cells, red cells, brain), L.
+    pub fn intracellular_l(&self) -> f64 {
+        self.get(S::CellsL) + self.get(S::RedCellsL) + self.get(S::BrainL)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn layout_and_names_agree() {
+        assert_eq!(STATE_NAMES.len(), N_STATES);
+        assert_eq!(STATE_NAMES[S::PlasmaL as usize], "plasma water");
+        assert_eq!(STATE_NAMES[S::UrineL as usize], "cumulative urine");
+    }
+
+    #[test]
+    fn residual_is_zero_when_the_ledger_matches() {
+        let y0 = vec![1.0; N_STATES];
+        let mut y = y0.clone();
+        y[S::PlasmaL as usize] += 0.5;
+        y[S::InWater as usize] += 0.5;
+        assert_eq!(Species::Water.residual(&y0, &y), 0.0);
+        y[S::InWater as usize] += 0.1;
+        assert!(Species::Water.residual(&y0, &y) < -0.01);
+    }
+}

@@ -1,0 +1,77 @@
+//! # Tidewater engine
+//!
+//! A whole-body model of water and sodium: intracellular, interstitial and
+//! plasma water; sodium, potassium, urea, glucose and albumin pools; osmotic
+//! water shifts across cell membranes; Starling filtration and lymph at the
+//! capillaries; renal excretion under antidiuretic hormone. It predicts how
+//! serum sodium and the fluid compartments move under a plan of fluids,
+//! drugs and losses, and flags corrections that outrun guideline limits.
+//!
+//! **Caution.** A simulation for planning and teaching, not a medical
+//! device. Defer to local protocols and licensed clinicians, and re-measure
+//! serum sodium.
+//!
+//! ## Principal types and how data flows
+//!
+//! * [`Patient`] (what the user describes) is resolved against [`Params`]
+//!   (every parameter with unit and source) and turned by [`Model::new`]
+//!   into a [`Model`] (pure physiology) and a steady initial [`Body`].
+//! * A [`Plan`] holds the patient, the parameters, planned [`Event`]s
+//!   (start or stop a [`Stream`]: an infusion, a drink, a loss), the check
+//!   interval for a [`Controller`] (a protocol's rules), sampling and the
+//!   guideline limits.
+//! * [`Simulation`] integrates the model over the plan with an implicit
+//!   BDF method (diffsol), stopping exactly at every input change and check.
+//! * The result is a [`Trajectory`]: samples with derived labs
+//!   ([`Observation`]), sodium changes over trailing 24 h and 48 h, guideline
+//!   [`Flag`]s and a mass-balance ledger per species.
+//!
+//! ```
+//! use tidewater::{FluidLibrary, Patient, Plan, Simulation, Stream};
+//!
+//! let fluids = FluidLibrary::bundled();
+//! let patient = Patient { na: Some(118.0), ..Patient::healthy("female", 60.0, 65.0) };
+//! let plan = Plan::new(patient)
+//!     .run_for(24.0)
+//!     .start(0.0, Stream::give(fluids.get("saline_3")?, 0.15, 20.0 / 60.0)?);
+//! let run = Simulation::new(plan)?.run()?;
+//! let first_hour = run.at(1.0).obs.na_mmol_l - 118.0;
+//! assert!(first_hour > 1.0 && first_hour < 5.0);
+//! assert!(run.max_balance_residual() < 1e-6);
+//! # Ok::<(), Box<dyn std::error::Error>>(())
+//! ```
+//!
+//! Units inside the engine: litres, mmol (albumin in grams), hours, mmHg.
+//! Concentrations are per litre of water, and osmolality is taken equal to
+//! mOsm per litre of water (the dilute-solution approximation).
+
+#![warn(missing_docs)]
+
+pub mod body;
+pub mod error;
+pub mod fluids;
+pub mod formulas;
+pub mod limits;
+pub mod model;
+pub mod params;
+pub mod patient;
+pub mod physiology;
+pub mod simulate;
+mod suggest;
+pub mod trajectory;
+pub mod units;
+
+pub use body::{Body, Species, S};
+pub use error::{InputError, SimulationError};
+pub use fluids::{Fluid, FluidLibrary};
+pub use limits::{Flag, LimitChoice};
+pub use model::{Inputs, Model, Observation, Switches};
+pub use params::{Params, PARAMETERS};
+pub use patient::{Patient, ResolvedPatient};
+pub use simulate::{Action, Controller, Event, Plan, Simulation, Snapshot, Stream, Tolerances};
+pub use trajectory::{Sample, SolverStats, Trajectory};
+
+/// The caution every report carries.
+pub const CAUTION: &str =
+    "Tidewater is a simulation for planning and teaching, not a medical device. \
+Defer to local protocols and licensed clinicians, and re-measure serum sodium.";

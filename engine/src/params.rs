@@ -1,0 +1,240 @@
+//! Every physiological parameter of the model, in one place.
+//!
+//! Each parameter has a name (the one scripts and sweep specs use), a unit,
+//! a default, an admissible range and a source. A source marked "(M)" is a
+//! value recalled from memory rather than read from the cited work; "common
+//! practice" marks a fact of the trade without a single source; "calibrated"
+//! marks a value chosen so that the model meets a reference check (the check
+//! is named).
+//!
+//! Nothing else in the engine hard-codes a physiological number: the
+//! mechanisms in [`crate::physiology`] read them from [`Params`].
+
+use crate::error::InputError;
+
+/// Description of one parameter, for listings, validation and reports.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ParamInfo {
+    /// Name used by scripts (`set_param`) and sweep specs.
+    pub name: &'static str,
+    /// Unit of the value.
+    pub unit: &'static str,
+    /// Default value.
+    pub default: f64,
+    /// Smallest admissible value.
+    pub min: f64,
+    /// Largest admissible value.
+    pub max: f64,
+    /// Where the default comes from.
+    pub source: &'static str,
+    /// What the parameter means.
+    pub meaning: &'static str,
+}
+
+macro_rules! parameters {
+    ($( $name:ident : $default:expr, [$min:expr, $max:expr], $unit:expr, $meaning:expr, $source:expr; )*) => {
+        /// All model parameters, one `f64` each, units in [`PARAMETERS`].
+        #[derive(Debug, Clone, PartialEq)]
+        pub struct Params {
+            $( #[doc = $meaning] #[doc = ""] #[doc = concat!("Unit: ", $unit, ". Source: ", $source, ".")] pub $name: f64, )*
+        }
+
+        impl Default for Params {
+            fn default() -> Self {
+                Self { $( $name: $default, )* }
+            }
+        }
+
+        /// The table of every parameter: name, unit, default, range, source.
+        pub const PARAMETERS: &[ParamInfo] = &[
+            $( ParamInfo { name: stringify!($name), unit: $unit, default: $default, min: $min, max: $max, source: $source, meaning: $meaning }, )*
+        ];
+
+        impl Params {
+            /// Value of a parameter by its documented name.
+            pub fn get(&self, name: &str) -> Option<f64> {
+                match name {
+                    $( stringify!($name) => Some(self.$name), )*
+                    _ => None,
+                }
+            }
+
+            fn slot(&mut self, name: &str) -> Option<&mut f64> {
+                match name {
+                    $( stringify!($name) => Some(&mut self.$name), )*
+                    _ => None,
+                }
+            }
+        }
+    };
+}
+
+parameters! {
+    // --- reference plasma composition ("normal") ---------------------------
+    na_ref_mmol_l: 140.0, [120.0, 160.0], "mmol/L", "Normal serum sodium: the tonicity brain cells are adapted to at rest", "common practice";
+    k_ref_mmol_l: 4.2, [2.0, 7.0], "mmol/L", "Normal serum potassium", "common practice";
+    glucose_ref_mmol_l: 5.0, [2.0, 15.0], "mmol/L", "Normal fasting plasma glucose", "common practice";
+    globulin_g_l: 27.0, [5.0, 60.0], "g/L", "Non-albumin plasma protein (total protein ~69 g/L minus albumin ~42 g/L)", "MODEL.md section 3 (M)";
+    cell_k_mmol_l: 140.0, [100.0, 170.0], "mmol/L", "Potassium concentration of cell water at normal tonicity", "MODEL.md section 1 (common practice)";
+
+    // --- body composition ---------------------------------------------------
+    tbw_fraction_man: 0.60, [0.3, 0.8], "L/kg", "Total body water per kg, adult men", "common practice";
+    tbw_fraction_woman: 0.50, [0.3, 0.8], "L/kg", "Total body water per kg, adult women", "common practice";
+    tbw_fraction_elderly_man: 0.50, [0.3, 0.8], "L/kg", "Total body water per kg, elderly men", "common practice";
+    tbw_fraction_elderly_woman: 0.45, [0.3, 0.8], "L/kg", "Total body water per kg, elderly women", "common practice";
+    elderly_age_years: 65.0, [40.0, 100.0], "years", "Age from which the elderly water fractions apply", "common practice";
+    icf_fraction: 0.6667, [0.4, 0.8], "1", "Intracellular share of total body water (two thirds)", "common practice";
+    plasma_fraction_of_ecf: 0.25, [0.1, 0.4], "1", "Plasma share of extracellular water (one quarter)", "common practice";
+    brain_fraction_of_icf: 0.036, [0.01, 0.1], "1", "Brain cell water as a share of intracellular water (~1 L of ~28 L)", "MODEL.md section 1 (M)";
+    rbc_water_fraction: 0.72, [0.5, 0.9], "1", "Water share of red-cell volume", "physiology tables (M)";
+    plasma_water_fraction: 0.93, [0.8, 1.0], "1", "Water share of plasma volume", "common practice";
+    hematocrit_man: 0.44, [0.15, 0.7], "1", "Default hematocrit, men", "common practice";
+    hematocrit_woman: 0.40, [0.15, 0.7], "1", "Default hematocrit, women", "common practice";
+    albumin_ref_g_l: 42.0, [10.0, 60.0], "g/L", "Default plasma albumin", "MODEL.md section 3: 35-50 g/L (M)";
+    urea_ref_mmol_l: 5.0, [1.0, 60.0], "mmol/L", "Default plasma urea", "common practice";
+
+    // --- cell membranes (MODEL.md section 2) ---------------------------------
+    body_temperature_c: 37.0, [30.0, 42.0], "degC", "Body temperature for the van't Hoff factor RT", "common practice";
+    cell_water_equilibration_min: 4.0, [0.1, 60.0], "min", "Time constant of osmotic water exchange between tissue cells and interstitium (steady state after ~4 time constants)", "Hamilton, Ward & Watson, Am J Physiol 1993: muscle at steady state ~17 min after an osmotic step (M)";
+    rbc_water_equilibration_s: 1.0, [0.01, 60.0], "s", "Time constant of osmotic water exchange between red cells and plasma", "MODEL.md section 2: under a second (M)";
+    brain_water_equilibration_min: 4.0, [0.1, 60.0], "min", "Time constant of osmotic water exchange between brain cells and interstitium", "assumed equal to other tissues (M)";
+    sigma_urea_cells: 0.0, [0.0, 1.0], "1", "Reflection coefficient of urea at tissue-cell membranes", "MODEL.md section 2 (urea an ineffective osmole)";
+    sigma_urea_rbc: 0.65, [0.0, 1.0], "1", "Reflection coefficient of urea at the red-cell membrane", "Toon & Solomon, Biochim Biophys Acta 1987";
+    sigma_urea_brain: 0.0, [0.0, 1.0], "1", "Reflection coefficient of urea at brain-cell membranes", "MODEL.md section 2 (M)";
+    urea_cell_equilibration_min: 10.0, [0.1, 600.0], "min", "Time constant of urea exchange between interstitium and cells", "MODEL.md section 2: minutes (M)";
+    urea_rbc_equilibration_s: 10.0, [0.1, 600.0], "s", "Time constant of urea exchange between plasma and red cells", "(M)";
+    potassium_shift_h: 2.0, [0.1, 48.0], "h", "Time constant for extracellular potassium to approach its distribution equilibrium with cells", "MODEL.md section 5: over hours (M)";
+
+    // --- capillaries and lymph (MODEL.md section 3) --------------------------
+    kf_ml_min_mmhg: 6.67, [0.5, 50.0], "mL/min/mmHg", "Whole-body capillary filtration coefficient", "Guyton & Hall textbook (M)";
+    interstitial_pressure_mmhg: -3.0, [-10.0, 5.0], "mmHg", "Interstitial fluid pressure at rest", "Guyton & Hall textbook";
+    interstitial_colloid_mmhg: 8.0, [1.0, 20.0], "mmHg", "Interstitial colloid osmotic pressure at rest", "Guyton & Hall textbook";
+    sigma_albumin: 0.9, [0.5, 1.0], "1", "Reflection coefficient of plasma proteins at the capillary wall", "MODEL.md section 3 (M)";
+    capillary_elastance_mmhg: 10.0, [0.5, 100.0], "mmHg per fraction of blood volume", "Rise of capillary pressure per relative blood-volume change (2 mmHg per L at 5 L)", "calibrated: one quarter of isotonic crystalloid stays intravascular (check M4)";
+    interstitial_elastance_mmhg: 31.5, [2.0, 200.0], "mmHg per fraction of interstitial volume", "Stiffness of the interstitium while its pressure is negative (3 mmHg per L at 10.5 L)", "calibrated against check M4; Guyton's pressure-volume curve (M)";
+    oedema_compliance_ratio: 15.0, [1.0, 100.0], "1", "How many times more compliant the interstitium is once its pressure is positive", "Guyton's interstitial pressure-volume curve (M)";
+    lymph_flow_ml_h: 120.0, [20.0, 500.0], "mL/h", "Lymph flow at rest (equals net filtration at rest)", "MODEL.md section 3: 2-3 L/day (Guyton & Hall)";
+    lymph_max_ratio: 20.0, [1.5, 50.0], "1", "Plateau of lymph flow as a multiple of resting flow", "Guyton & Hall lymph flow curve (M)";
+    lymph_half_pressure_mmhg: 0.0, [-5.0, 5.0], "mmHg", "Interstitial pressure at which lymph flow is half its plateau", "Guyton & Hall lymph flow curve (M)";
+    albumin_escape_per_h: 0.055, [0.005, 0.3], "1/h", "Transcapillary escape rate of plasma albumin", "MODEL.md section 3: 5-6 %/h; Chahid et al. 2021: 6.2 %/h";
+    albumin_extravascular_fraction: 0.6, [0.3, 0.8], "1", "Share of body albumin outside the plasma at rest", "MODEL.md section 3: over 60 % (M)";
+    small_solute_exchange_min: 3.0, [0.1, 60.0], "min", "Time constant of small-solute exchange between plasma and interstitium", "MODEL.md section 3: minutes (M)";
+
+    // --- metabolism and insensible loss (MODEL.md section 5) -----------------
+    insensible_ml_day: 800.0, [0.0, 5000.0], "mL/day", "Insensible loss of solute-free water", "MODEL.md section 5 (common practice)";
+    metabolic_water_ml_day: 300.0, [0.0, 1000.0], "mL/day", "Water of oxidation", "MODEL.md section 5: 250-350 mL/day (common practice)";
+    glucose_production_mg_kg_min: 2.0, [0.5, 6.0], "mg/kg/min", "Endogenous glucose production at rest", "physiology textbooks (M)";
+    glucose_insulin_independent_fraction: 0.5, [0.1, 0.9], "1", "Share of resting glucose disposal that needs no insulin (brain, red cells)", "(M)";
+    glucose_uptake_km_mmol_l: 1.5, [0.1, 10.0], "mmol/L", "Half-saturation of insulin-independent glucose uptake", "(M)";
+    insulin_gain: 2.0, [0.0, 5.0], "1", "Exponent of insulin-dependent disposal on glucose relative to its set point", "(M)";
+    insulin_activity: 1.0, [0.0, 3.0], "1", "Insulin action relative to normal (0 = absent)", "model switch";
+    urea_generation_mmol_kg_day: 5.7, [0.0, 30.0], "mmol/kg/day", "Urea generation from protein catabolism (about 1 g protein/kg/day)", "common practice (M)";
+
+    // --- kidney and antidiuretic hormone (MODEL.md section 4) ----------------
+    avp_threshold_mosm_kg: 284.0, [260.0, 300.0], "mOsm/kg", "Plasma osmolality threshold for osmotic vasopressin release", "Baylis & Robertson, J R Soc Med 1980";
+    avp_slope_pmol_l_per_mosm: 0.63, [0.05, 3.0], "pmol/L per mOsm/kg", "Slope of plasma vasopressin on plasma osmolality above threshold", "Baylis & Robertson, J R Soc Med 1980";
+    avp_half_max_pmol_l: 1.8, [0.1, 20.0], "pmol/L", "Vasopressin giving half the maximal rise of urine osmolality", "urine near maximal at ~5 pg/mL (MODEL.md section 4) (M)";
+    avp_hill: 2.0, [0.5, 6.0], "1", "Hill exponent of urine osmolality on vasopressin", "(M)";
+    avp_floor_pmol_l: 0.0, [0.0, 50.0], "pmol/L", "Vasopressin secreted whatever the osmolality (unsuppressible antidiuresis)", "model switch";
+    urine_osm_min: 50.0, [30.0, 300.0], "mOsm/kg", "Most dilute urine", "MODEL.md section 4";
+    urine_osm_max: 1200.0, [300.0, 1500.0], "mOsm/kg", "Most concentrated urine of a healthy young adult", "MODEL.md section 4";
+    urine_osm_max_decline_per_year: 5.0, [0.0, 20.0], "mOsm/kg per year over 30", "Loss of concentrating ability with age", "(M)";
+    gfr_ml_min: 120.0, [5.0, 200.0], "mL/min", "Glomerular filtration rate", "common practice";
+    na_intake_mmol_day: 150.0, [0.0, 600.0], "mmol/day", "Habitual sodium intake (equals excretion at steady state)", "common practice (M)";
+    k_intake_mmol_day: 70.0, [0.0, 300.0], "mmol/day", "Habitual potassium intake", "common practice (M)";
+    natriuresis_gain: 13.0, [0.0, 100.0], "1", "Log-gain of sodium excretion on relative extracellular volume", "calibrated: excess extracellular volume excreted with a time constant of about a day (M)";
+    kaliuresis_exponent: 2.0, [0.0, 6.0], "1", "Exponent of potassium excretion on plasma potassium relative to its start", "(M)";
+    glucose_renal_threshold_mmol_l: 10.0, [5.0, 25.0], "mmol/L", "Plasma glucose above which glucose appears in urine", "MODEL.md section 4";
+
+    // --- brain adaptation (MODEL.md section 6) --------------------------------
+    brain_adaptive_fraction: 0.25, [0.0, 0.6], "1", "Share of brain-cell osmoles that can be shed or regained to defend volume", "(M)";
+    brain_osmolyte_loss_h: 24.0, [1.0, 200.0], "h", "Time constant of losing adaptive osmolytes in hypotonicity", "MODEL.md section 6: electrolytes in hours, organic osmolytes 1-2 days (M)";
+    brain_osmolyte_regain_h: 96.0, [1.0, 500.0], "h", "Time constant of regaining adaptive osmolytes on correction", "MODEL.md section 6: several days (M)";
+}
+
+impl Params {
+    /// Set a parameter by name, checking that the name exists and the value
+    /// lies in its admissible range.
+    pub fn set(&mut self, name: &str, value: f64) -> Result<(), InputError> {
+        let info = info(name).ok_or_else(|| InputError::UnknownParameter {
+            name: name.to_string(),
+            suggestion: crate::suggest::closest(name, PARAMETERS.iter().map(|p| p.name)),
+        })?;
+        if !value.is_finite() || value < info.min || value > info.max {
+            return Err(InputError::OutOfRange {
+                field: name.to_string(),
+                value,
+                min: info.min,
+                max: info.max,
+                unit: info.unit.to_string(),
+            });
+        }
+        if let Some(slot) = self.slot(name) {
+            *slot = value;
+        }
+        Ok(())
+    }
+
+    /// Check every parameter against its range (after deserialising or
+    /// building by hand).
+    pub fn validate(&self) -> Result<(), InputError> {
+        for info in PARAMETERS {
+            let value = self.get(info.name).unwrap_or(f64::NAN);
+            if !value.is_finite() || value < info.min || value > info.max {
+                return Err(InputError::OutOfRange {
+                    field: info.name.to_string(),
+                    value,
+                    min: info.min,
+                    max: info.max,
+                    unit: info.unit.to_string(),
+                });
+            }
+        }
+        Ok(())
+    }
+}
+
+/// Look a parameter up by name.
+pub fn info(name: &str) -> Option<&'static ParamInfo> {
+    PARAMETERS.iter().find(|p| p.name == name)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn every_default_lies_in_its_range_and_names_are_unique() {
+        let p = Params::default();
+        p.validate().expect("defaults valid");
+        let mut names: Vec<_> = PARAMETERS.iter().map(|p| p.name).collect();
+        names.sort_unstable();
+        let n = names.len();
+        names.dedup();
+        assert_eq!(n, names.len());
+        for info in PARAMETERS {
+            assert!(
+                !info.source.is_empty() && !info.unit.is_empty(),
+                "{}",
+                info.name
+            );
+        }
+    }
+
+    #[test]
+    fn set_checks_name_and_range() {
+        let mut p = Params::default();
+        p.set("gfr_ml_min", 60.0).unwrap();
+        assert_eq!(p.gfr_ml_min, 60.0);
+        match p.set("gfr_ml_mn", 60.0) {
+            Err(InputError::UnknownParameter { suggestion, .. }) => {
+                assert_eq!(suggestion.as_deref(), Some("gfr_ml_min"))
+            }
+            other => panic!("{other:?}"),
+        }
+        assert!(matches!(
+            p.set("gfr_ml_min", -1.0),
+            Err(InputError::OutOfRange { .. })
+        ));
+    }
+}

@@ -1,0 +1,222 @@
+//! The result of a run: samples on a fixed grid with derived labs, sodium
+//! changes over trailing windows, guideline flags and the mass-balance
+//! ledger.
+
+use crate::body::{Species, N_STATES};
+use crate::limits::{self, Flag, LimitChoice};
+use crate::model::{Inputs, Observation};
+use serde::Serialize;
+
+/// One sample of the run.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Sample {
+    /// Simulated time, h.
+    pub time_h: f64,
+    /// Derived labs and flows.
+    pub obs: Observation,
+    /// Inputs in force.
+    pub inputs: Inputs,
+    /// The full state vector (see [`crate::body::S`]).
+    #[serde(skip)]
+    pub y: Vec<f64>,
+}
+
+/// Solver statistics of a run.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Serialize)]
+pub struct SolverStats {
+    /// Accepted steps.
+    pub steps: usize,
+    /// Rejected steps (error test).
+    pub error_test_failures: usize,
+    /// Nonlinear solver failures.
+    pub nonlinear_failures: usize,
+    /// Right-hand-side evaluations by the solver (Jacobian products excluded).
+    pub rhs_calls: usize,
+    /// Jacobian-vector products.
+    pub jacobian_products: usize,
+    /// Jacobian evaluations.
+    pub jacobian_evaluations: usize,
+    /// Solver restarts after an input change.
+    pub restarts: usize,
+}
+
+/// Mass balance of one species over the run.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Balance {
+    /// Species name.
+    pub species: &'static str,
+    /// Unit of the amounts.
+    pub unit: &'static str,
+    /// Content at the start.
+    pub start: f64,
+    /// Content at the end.
+    pub end: f64,
+    /// Cumulative intake.
+    pub intake: f64,
+    /// Cumulative output.
+    pub output: f64,
+    /// Largest relative residual over all samples.
+    pub max_relative_residual: f64,
+}
+
+/// The output of a [`crate::Simulation`].
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Trajectory {
+    /// Samples on the grid (and at the end).
+    pub samples: Vec<Sample>,
+    /// Serum sodium change since the start, per sample, mmol/L.
+    pub na_change_since_start: Vec<f64>,
+    /// Serum sodium change over the trailing 24 h (`Na(t) − Na(max(0, t − 24))`), per sample.
+    pub na_change_24h: Vec<f64>,
+    /// Serum sodium change over the trailing 48 h, per sample.
+    pub na_change_48h: Vec<f64>,
+    /// Guideline rules crossed.
+    pub flags: Vec<Flag>,
+    /// Guideline set used.
+    pub limits: LimitChoice,
+    /// Mass balance per species.
+    pub balance: Vec<Balance>,
+    /// Solver statistics.
+    pub stats: SolverStats,
+}
+
+/// Value of a piecewise-linear series at time `t` (clamped at the ends).
+pub fn interpolate(times: &[f64], values: &[f64], t: f64) -> f64 {
+    if times.is_empty() {
+        return f64::NAN;
+    }
+    if t <= times[0] {
+        return values[0];
+    }
+    let j = times.partition_point(|&x| x < t);
+    if j >= times.len() {
+        return values[values.len() - 1];
+    }
+    let (t0, t1) = (times[j - 1], times[j]);
+    if t1 - t0 <= 0.0 {
+        return values[j];
+    }
+    values[j - 1] + (values[j] - values[j - 1]) * (t - t0) / (t1 - t0)
+}
+
+/// Change over a trailing window: `v(t) − v(max(t₀, t − window))`.
+pub fn trailing_change(times: &[f64], values: &[f64], j: usize, window_h: f64) -> f64 {
+    let t = times[j];
+    let from = (t - window_h).max(times[0]);
+    values[j] - interpolate(&times[..=j], &values[..=j], from)
+}
+
+impl Trajectory {
+    /// Assemble the derived series from samples.
+    pub fn from_samples(samples: Vec<Sample>, limits: LimitChoice, stats: SolverStats) -> Self {
+        let times: Vec<f64> = samples.iter().map(|s| s.time_h).collect();
+        let na: Vec<f64> = samples.iter().map(|s| s.obs.na_mmol_l).collect();
+        let na0 = na.first().copied().unwrap_or(f64::NAN);
+        let since: Vec<f64> = na.iter().map(|x| x - na0).collect();
+        let c24 = (0..na.len())
+            .map(|j| trailing_change(&times, &na, j, 24.0))
+            .collect();
+        let c48 = (0..na.len())
+            .map(|j| trailing_change(&times, &na, j, 48.0))
+            .collect();
+        let flags = limits::check(&times, &na, &limits);
+        let balance = match (samples.first(), samples.last()) {
+            (Some(first), Some(last)) if first.y.len() == N_STATES => Species::ALL
+                .iter()
+                .map(|&sp| Balance {
+                    species: sp.name(),
+                    unit: sp.unit(),
+                    start: sp.content(&first.y),
+                    end: sp.content(&last.y),
+                    intake: sp.cumulative_in(&last.y),
+                    output: sp.cumulative_out(&last.y),
+                    max_relative_residual: samples
+                        .iter()
+                        .map(|s| sp.residual(&first.y, &s.y).abs())
+                        .fold(0.0, f64::max),
+                })
+                .collect(),
+            _ => Vec::new(),
+        };
+        Trajectory {
+            samples,
+            na_change_since_start: since,
+            na_change_24h: c24,
+            na_change_48h: c48,
+            flags,
+            limits,
+            balance,
+            stats,
+        }
+    }
+
+    /// Sample times, h.
+    pub fn times(&self) -> Vec<f64> {
+        self.samples.iter().map(|s| s.time_h).collect()
+    }
+
+    /// Serum sodium per sample.
+    pub fn sodium(&self) -> Vec<f64> {
+        self.samples.iter().map(|s| s.obs.na_mmol_l).collect()
+    }
+
+    /// The sample nearest to time `t`.
+    pub fn at(&self, t_h: f64) -> &Sample {
+        let j = self.samples.partition_point(|s| s.time_h < t_h);
+        let j = j.min(self.samples.len() - 1);
+        if j > 0 && (self.samples[j - 1].time_h - t_h).abs() < (self.samples[j].time_h - t_h).abs()
+        {
+            &self.samples[j - 1]
+        } else {
+            &self.samples[j]
+        }
+    }
+
+    /// The last sample.
+    pub fn last(&self) -> &Sample {
+        &self.samples[self.samples.len() - 1]
+    }
+
+    /// Largest relative mass-balance residual of any species at any sample.
+    pub fn max_balance_residual(&self) -> f64 {
+        self.balance
+            .iter()
+            .map(|b| b.max_relative_residual)
+            .fold(0.0, f64::max)
+    }
+
+    /// Largest rise of serum sodium within any window of `window_h` hours
+    /// (`Na(t) − min Na` over the window), and the time it was reached.
+    pub fn largest_rise(&self, window_h: f64) -> (f64, f64) {
+        let times = self.times();
+        let na = self.sodium();
+        let rule = limits::Rule {
+            direction: limits::Direction::Rise,
+            window_h,
+            max_mmol_l: 0.0,
+            from_h: times.first().copied().unwrap_or(0.0),
+            to_h: None,
+            severity: limits::Severity::Caution,
+            label: String::new(),
+        };
+        (0..times.len())
+            .map(|j| (limits::windowed_change(&times, &na, j, &rule), times[j]))
+            .fold((0.0, 0.0), |a, b| if b.0 > a.0 { b } else { a })
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn interpolation_and_trailing_change() {
+        let t = [0.0, 12.0, 24.0, 36.0];
+        let v = [120.0, 124.0, 130.0, 133.0];
+        assert_eq!(interpolate(&t, &v, 6.0), 122.0);
+        assert_eq!(interpolate(&t, &v, -1.0), 120.0);
+        assert_eq!(interpolate(&t, &v, 99.0), 133.0);
+        assert_eq!(trailing_change(&t, &v, 3, 24.0), 9.0);
+        assert_eq!(trailing_change(&t, &v, 1, 24.0), 4.0);
+    }
+}

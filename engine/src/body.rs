@@ -82,6 +82,9 @@ pub enum S {
     UrineL,
 }
 
+/// Number of entries that describe the body (the rest is the ledger).
+pub const N_STATES_BODY: usize = S::InWater as usize;
+
 /// Number of entries in the state vector.
 pub const N_STATES: usize = S::UrineL as usize + 1;
 

@@ -56,12 +56,13 @@ pub mod model;
 pub mod params;
 pub mod patient;
 pub mod physiology;
+pub mod reference;
 pub mod simulate;
 mod suggest;
 pub mod trajectory;
 pub mod units;
 
-pub use body::{Body, Species, S};
+pub use body::{Body, Species, N_STATES_BODY, S};
 pub use error::{InputError, SimulationError};
 pub use fluids::{Fluid, FluidLibrary};
 pub use limits::{Flag, LimitChoice};

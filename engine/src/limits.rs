@@ -137,38 +137,53 @@ pub struct Flag {
     pub rule: Rule,
 }
 
-/// Change within the trailing window of `rule` ending at sample `j`: the
-/// rise `Na(t) − min` (or the fall `max − Na(t)`) over the window.
-pub fn windowed_change(times: &[f64], na: &[f64], j: usize, rule: &Rule) -> f64 {
-    let t = times[j];
-    let start = rule.from_h.max(t - rule.window_h);
-    let mut extreme = na[j];
-    for i in (0..=j).rev() {
-        if times[i] < start - 1e-9 {
-            break;
+/// Change within the trailing window of `rule` ending at each sample: the
+/// rise `Na(t) − min` (or the fall `max − Na(t)`) over
+/// `[max(from_h, t − window_h), t]`. Linear time (a monotonic queue).
+pub fn window_changes(times: &[f64], na: &[f64], rule: &Rule) -> Vec<f64> {
+    let mut out = Vec::with_capacity(times.len());
+    let mut queue: std::collections::VecDeque<usize> = std::collections::VecDeque::new();
+    let better = |a: f64, b: f64| match rule.direction {
+        Direction::Rise => a <= b,
+        Direction::Fall => a >= b,
+    };
+    for j in 0..times.len() {
+        while let Some(&back) = queue.back() {
+            if better(na[j], na[back]) {
+                queue.pop_back();
+            } else {
+                break;
+            }
         }
-        extreme = match rule.direction {
-            Direction::Rise => extreme.min(na[i]),
-            Direction::Fall => extreme.max(na[i]),
-        };
+        queue.push_back(j);
+        let start = rule.from_h.max(times[j] - rule.window_h);
+        while let Some(&front) = queue.front() {
+            if times[front] < start - 1e-9 && front != j {
+                queue.pop_front();
+            } else {
+                break;
+            }
+        }
+        let extreme = na[*queue.front().expect("queue holds j")];
+        out.push(match rule.direction {
+            Direction::Rise => na[j] - extreme,
+            Direction::Fall => extreme - na[j],
+        });
     }
-    match rule.direction {
-        Direction::Rise => na[j] - extreme,
-        Direction::Fall => extreme - na[j],
-    }
+    out
 }
 
 /// Check a sodium series against the rules; one flag per crossed rule.
 pub fn check(times: &[f64], na: &[f64], choice: &LimitChoice) -> Vec<Flag> {
     let mut flags = Vec::new();
     for rule in choice.rules() {
+        let changes = window_changes(times, na, rule);
         let mut flag: Option<Flag> = None;
-        for j in 0..times.len() {
+        for (j, &change) in changes.iter().enumerate() {
             let t = times[j];
             if t <= rule.from_h + 1e-9 || rule.to_h.is_some_and(|end| t > end + 1e-9) {
                 continue;
             }
-            let change = windowed_change(times, na, j, rule);
             if change > rule.max_mmol_l + 1e-9 {
                 match &mut flag {
                     None => {
@@ -228,6 +243,41 @@ mod tests {
         assert!(flags
             .iter()
             .all(|f| f.rule.severity == Severity::Caution || f.rule.window_h == 48.0));
+    }
+
+    #[test]
+    fn window_changes_match_a_direct_scan() {
+        let t: Vec<f64> = (0..200).map(|i| i as f64 * 0.5).collect();
+        let na: Vec<f64> = t
+            .iter()
+            .map(|x| 120.0 + 3.0 * (x / 7.0).sin() + 0.05 * x)
+            .collect();
+        for direction in [Direction::Rise, Direction::Fall] {
+            let rule = Rule {
+                direction,
+                window_h: 24.0,
+                max_mmol_l: 0.0,
+                from_h: 10.0,
+                to_h: None,
+                severity: Severity::Limit,
+                label: String::new(),
+            };
+            let fast = window_changes(&t, &na, &rule);
+            for j in 0..t.len() {
+                let start = rule.from_h.max(t[j] - rule.window_h);
+                let window: Vec<f64> = (0..=j)
+                    .filter(|&i| t[i] >= start - 1e-9 || i == j)
+                    .map(|i| na[i])
+                    .collect();
+                let slow = match direction {
+                    Direction::Rise => na[j] - window.iter().cloned().fold(f64::INFINITY, f64::min),
+                    Direction::Fall => {
+                        window.iter().cloned().fold(f64::NEG_INFINITY, f64::max) - na[j]
+                    }
+                };
+                assert!((fast[j] - slow).abs() < 1e-12, "{j}");
+            }
+        }
     }
 
     #[test]

@@ -209,9 +209,11 @@ pub struct Calibration {
     pub lymph_half_mmhg: f64,
     /// Lymph slope scale, mmHg.
     pub lymph_scale_mmhg: f64,
-    /// Lymph albumin concentration relative to interstitial (prenodal
-    /// lymph returns albumin faster than thoracic-duct flow suggests).
-    pub albumin_return_factor: f64,
+    /// Lymph flow at rest, L/h.
+    pub lymph0_l_h: f64,
+    /// Fraction of interstitial albumin returned per hour at resting lymph
+    /// flow, 1/h (equals escape at rest).
+    pub albumin_return_per_h: f64,
     /// Glucose set point, mmol/L.
     pub glucose_set_point: f64,
     /// Endogenous glucose production, mmol/h.
@@ -483,7 +485,7 @@ impl Model {
         );
         let lymph_scale =
             capillary::lymph_scale_mmhg(p_i0, p.lymph_half_pressure_mmhg, p.lymph_max_ratio);
-        let albumin_return_factor = p.albumin_escape_per_h * albumin_p / (lymph0 * albumin_i / v_i);
+        let albumin_return_per_h = p.albumin_escape_per_h * albumin_p / albumin_i;
 
         // --- exchange constants from time constants -----------------------
         let cell_conductance = membrane::conductance_for_time_constant(
@@ -559,7 +561,8 @@ impl Model {
             lymph_max_l_h: p.lymph_max_ratio * lymph0,
             lymph_half_mmhg: p.lymph_half_pressure_mmhg,
             lymph_scale_mmhg: lymph_scale,
-            albumin_return_factor,
+            lymph0_l_h: lymph0,
+            albumin_return_per_h,
             glucose_set_point: patient.glucose_mmol_l,
             glucose_production_mmol_h: glucose_production,
             urea_generation_mmol_h: urea_generation,
@@ -692,7 +695,6 @@ impl Model {
             c.capillary0_mmhg + c.blood_elastance_mmhg_l * (blood_volume - c.blood_volume0_l);
         let interstitial_mmhg = c.interstitium.pressure_mmhg(v_i);
         let plasma_colloid = capillary::landis_pappenheimer_mmhg(conc(plasma_protein, v_p) / 10.0);
-        let albumin_i_conc = conc(s(S::AlbuminInterstitium), v_i);
         let interstitial_colloid = capillary::landis_pappenheimer_mmhg(
             conc(s(S::AlbuminInterstitium) + c.interstitial_globulin_g, v_i) / 10.0,
         );
@@ -711,7 +713,13 @@ impl Model {
             c.lymph_scale_mmhg,
         );
         let albumin_escape = p.albumin_escape_per_h * s(S::AlbuminPlasma).max(0.0);
-        let albumin_return = lymph * albumin_i_conc.max(0.0) * c.albumin_return_factor;
+        // Albumin returns with lymph; the return grows less than in
+        // proportion to lymph flow (lymph protein falls as flow rises).
+        let albumin_return = c.albumin_return_per_h
+            * s(S::AlbuminInterstitium).max(0.0)
+            * (lymph / c.lymph0_l_h)
+                .max(0.0)
+                .powf(p.albumin_return_flow_exponent);
 
         // Potassium, urea and glucose handling by cells.
         let k_into_cells = potassium::flux_into_cells_mmol_h(c.k_rate, c.k_ratio, k_i, k_c);
@@ -934,6 +942,7 @@ impl Model {
             u.glucose_in_mmol_h + f.glucose_production_mmol_h,
         );
         set(S::InAlbumin, u.albumin_in_g_h);
+
         set(
             S::OutWater,
             u.water_out_l_h + f.urine_l_h + f.insensible_l_h + bl_water_p + bl_water_r,

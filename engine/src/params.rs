@@ -111,14 +111,15 @@ parameters! {
     interstitial_colloid_mmhg: 8.0, [1.0, 20.0], "mmHg", "Interstitial colloid osmotic pressure at rest", "Guyton & Hall textbook";
     sigma_albumin: 0.9, [0.5, 1.0], "1", "Reflection coefficient of plasma proteins at the capillary wall", "MODEL.md section 3 (M)";
     capillary_elastance_mmhg: 10.0, [0.5, 100.0], "mmHg per fraction of blood volume", "Rise of capillary pressure per relative blood-volume change (2 mmHg per L at 5 L)", "calibrated: one quarter of isotonic crystalloid stays intravascular (check M4)";
-    interstitial_elastance_mmhg: 31.5, [2.0, 200.0], "mmHg per fraction of interstitial volume", "Stiffness of the interstitium while its pressure is negative (3 mmHg per L at 10.5 L)", "calibrated against check M4; Guyton's pressure-volume curve (M)";
+    interstitial_elastance_mmhg: 20.0, [2.0, 200.0], "mmHg per fraction of interstitial volume", "Stiffness of the interstitium while its pressure is negative (1.9 mmHg per L at 10.5 L)", "calibrated against check M4; Guyton's pressure-volume curve (M)";
     oedema_compliance_ratio: 15.0, [1.0, 100.0], "1", "How many times more compliant the interstitium is once its pressure is positive", "Guyton's interstitial pressure-volume curve (M)";
     lymph_flow_ml_h: 120.0, [20.0, 500.0], "mL/h", "Lymph flow at rest (equals net filtration at rest)", "MODEL.md section 3: 2-3 L/day (Guyton & Hall)";
     lymph_max_ratio: 20.0, [1.5, 50.0], "1", "Plateau of lymph flow as a multiple of resting flow", "Guyton & Hall lymph flow curve (M)";
     lymph_half_pressure_mmhg: 0.0, [-5.0, 5.0], "mmHg", "Interstitial pressure at which lymph flow is half its plateau", "Guyton & Hall lymph flow curve (M)";
     albumin_escape_per_h: 0.055, [0.005, 0.3], "1/h", "Transcapillary escape rate of plasma albumin", "MODEL.md section 3: 5-6 %/h; Chahid et al. 2021: 6.2 %/h";
+    albumin_return_flow_exponent: 0.0, [0.0, 1.0], "1", "Exponent of albumin return on lymph flow relative to rest (1 = lymph albumin concentration independent of flow)", "(M): lymph protein concentration falls as lymph flow rises";
     albumin_extravascular_fraction: 0.6, [0.3, 0.8], "1", "Share of body albumin outside the plasma at rest", "MODEL.md section 3: over 60 % (M)";
-    small_solute_exchange_min: 3.0, [0.1, 60.0], "min", "Time constant of small-solute exchange between plasma and interstitium", "MODEL.md section 3: minutes (M)";
+    small_solute_exchange_min: 1.0, [0.1, 60.0], "min", "Time constant of small-solute exchange between plasma and interstitium", "MODEL.md section 3: minutes (M)";
 
     // --- metabolism and insensible loss (MODEL.md section 5) -----------------
     insensible_ml_day: 800.0, [0.0, 5000.0], "mL/day", "Insensible loss of solute-free water", "MODEL.md section 5 (common practice)";

@@ -199,8 +199,9 @@ impl Trajectory {
             severity: limits::Severity::Caution,
             label: String::new(),
         };
-        (0..times.len())
-            .map(|j| (limits::windowed_change(&times, &na, j, &rule), times[j]))
+        limits::window_changes(&times, &na, &rule)
+            .into_iter()
+            .zip(times.iter().copied())
             .fold((0.0, 0.0), |a, b| if b.0 > a.0 { b } else { a })
     }
 }

@@ -1,0 +1,54 @@
+//! Model checks M4 and M5 of REFERENCES.md: where infused water goes.
+//! Common practice: about one quarter of an isotonic crystalloid stays in
+//! the plasma once it has equilibrated, the rest is interstitial; 5 %
+//! dextrose, once its glucose is metabolised, distributes like water (about
+//! 7–10 % in plasma, two thirds in cells).
+
+use tidewater::{Patient, Plan};
+use tidewater_checks::*;
+
+#[test]
+fn m4_isotonic_saline_stays_one_quarter_intravascular() {
+    let plan = Plan::new(Patient::healthy("male", 40.0, 70.0))
+        .closed_system()
+        .run_for(6.0)
+        .start(0.0, give("saline_0_9", 1.0, 0.5));
+    let traj = run(plan);
+    assert_balanced(&traj);
+    let (a, b) = (&traj.samples[0].obs, &traj.last().obs);
+    let plasma = b.plasma_l - a.plasma_l;
+    let interstitium = b.interstitium_l - a.interstitium_l;
+    let cells = b.cells_l - a.cells_l;
+    assert!(
+        (0.20..=0.30).contains(&plasma),
+        "plasma kept {plasma:.3} L of 1 L"
+    );
+    assert!(interstitium > 0.65, "interstitium took {interstitium:.3} L");
+    assert!(
+        cells.abs() < 0.005 * a.cells_l,
+        "cells changed by {cells:.3} L"
+    );
+    // Equilibrated: filtration back to lymph flow.
+    assert!((b.filtration_ml_h - b.lymph_ml_h).abs() < 5.0);
+}
+
+#[test]
+fn m5_dextrose_distributes_like_water() {
+    let plan = Plan::new(Patient::healthy("male", 40.0, 70.0))
+        .closed_system()
+        .run_for(12.0)
+        .start(0.0, give("dextrose_5", 1.0, 1.0));
+    let traj = run(plan);
+    assert_balanced(&traj);
+    let (a, b) = (&traj.samples[0].obs, &traj.last().obs);
+    assert!(
+        (b.glucose_mmol_l - a.glucose_mmol_l).abs() < 0.05,
+        "glucose metabolised"
+    );
+    let total = b.total_water_l - a.total_water_l;
+    let plasma = (b.plasma_l - a.plasma_l) / total;
+    let cells =
+        (b.cells_l + b.red_cells_l + b.brain_l - a.cells_l - a.red_cells_l - a.brain_l) / total;
+    assert!((0.07..=0.10).contains(&plasma), "plasma share {plasma:.3}");
+    assert!((0.60..=0.72).contains(&cells), "cell share {cells:.3}");
+}

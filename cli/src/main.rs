@@ -54,7 +54,10 @@ fn run(cli: Cli) -> Result<()> {
         Command::Params => {
             println!("name\tunit\tdefault\tmin\tmax\tsource");
             for p in PARAMETERS {
-                println!("{}\t{}\t{}\t{}\t{}\t{}", p.name, p.unit, p.default, p.min, p.max, p.source);
+                println!(
+                    "{}\t{}\t{}\t{}\t{}\t{}",
+                    p.name, p.unit, p.default, p.min, p.max, p.source
+                );
             }
             Ok(())
         }
@@ -75,13 +78,21 @@ fn demo() -> Result<()> {
     let sim = Simulation::new(reference::benchmark_plan())?;
     let traj = sim.run()?;
     eprintln!("Caution: {CAUTION}");
-    println!("time_h\tna_mmol_l\tna_change_24h\turine_ml_h\turine_osm\tplasma_l\tbrain_volume_index");
+    println!(
+        "time_h\tna_mmol_l\tna_change_24h\turine_ml_h\turine_osm\tplasma_l\tbrain_volume_index"
+    );
     for (s, c24) in traj.samples.iter().zip(traj.na_change_24h.iter()) {
         if (s.time_h / 4.0 - (s.time_h / 4.0).round()).abs() < 1e-9 {
             let o = &s.obs;
             println!(
                 "{:.1}\t{:.1}\t{:+.1}\t{:.0}\t{:.0}\t{:.2}\t{:.3}",
-                s.time_h, o.na_mmol_l, c24, o.urine_ml_h, o.urine_osm_mosm_kg, o.plasma_l, o.brain_volume_index
+                s.time_h,
+                o.na_mmol_l,
+                c24,
+                o.urine_ml_h,
+                o.urine_osm_mosm_kg,
+                o.plasma_l,
+                o.brain_volume_index
             );
         }
     }
@@ -107,7 +118,10 @@ fn bench(runs: usize) -> Result<()> {
     }
     times.sort_by(f64::total_cmp);
     let s = first.stats;
-    println!("reference 48 h run: median {:.1} us over {runs} runs", times[runs / 2] * 1e6);
+    println!(
+        "reference 48 h run: median {:.1} us over {runs} runs",
+        times[runs / 2] * 1e6
+    );
     println!(
         "steps {}  rhs calls {}  jacobian products {}  jacobian evaluations {}  restarts {}  rejected steps {}",
         s.steps, s.rhs_calls, s.jacobian_products, s.jacobian_evaluations, s.restarts, s.error_test_failures

@@ -54,6 +54,14 @@ pub enum S {
     RedCellOsmoles,
     /// Adaptive brain osmolytes, mOsm.
     BrainOsmolytes,
+    /// Desmopressin in an absorption depot (skin, nose, gut), ug.
+    DesmopressinDepot,
+    /// Desmopressin in the body, ug.
+    Desmopressin,
+    /// Oral V2 antagonist in the body, mg.
+    V2Antagonist,
+    /// V2 agonism acting on the collecting duct (lags plasma), pmol/L.
+    RenalV2Effect,
     /// Cumulative water in, L.
     InWater,
     /// Cumulative sodium in, mmol.
@@ -111,6 +119,10 @@ pub const STATE_NAMES: [&str; N_STATES] = [
     "plasma globulins",
     "red-cell osmoles",
     "brain adaptive osmolytes",
+    "desmopressin depot",
+    "desmopressin",
+    "V2 antagonist",
+    "renal V2 effect",
     "cumulative water in",
     "cumulative sodium in",
     "cumulative potassium in",

@@ -48,6 +48,7 @@
 #![warn(missing_docs)]
 
 pub mod body;
+pub mod causes;
 pub mod error;
 pub mod fluids;
 pub mod formulas;
@@ -69,7 +70,9 @@ pub use limits::{Flag, LimitChoice};
 pub use model::{Inputs, Model, Observation, Switches};
 pub use params::{Params, PARAMETERS};
 pub use patient::{Patient, ResolvedPatient};
-pub use simulate::{Action, Controller, Event, Plan, Simulation, Snapshot, Stream, Tolerances};
+pub use simulate::{
+    Action, Controller, Event, Plan, Route, Simulation, Snapshot, Stream, Tolerances,
+};
 pub use trajectory::{Sample, SolverStats, Trajectory};
 
 /// The caution every report carries.

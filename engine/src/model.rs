@@ -63,7 +63,7 @@ impl Switches {
 }
 
 /// Number of entries in the input vector (see [`Inputs::to_vec`]).
-pub const N_INPUTS: usize = 13;
+pub const N_INPUTS: usize = 18;
 
 /// Piecewise-constant inputs during one stretch of time: everything given
 /// to and taken from the body by the scenario, as rates. Infusions, drinks
@@ -99,6 +99,16 @@ pub struct Inputs {
     pub albumin_out_g_h: f64,
     /// Whole blood lost, L/h.
     pub blood_loss_l_h: f64,
+    /// Desmopressin into an absorption depot (under the skin, nose, gut), ug/h.
+    pub desmopressin_depot_ug_h: f64,
+    /// Desmopressin straight into the circulation, ug/h.
+    pub desmopressin_ug_h: f64,
+    /// Oral V2 antagonist absorbed, mg/h.
+    pub v2_antagonist_mg_h: f64,
+    /// Loop-diuretic effect, 0 (none) to 1 (full).
+    pub loop_diuretic_effect: f64,
+    /// Thiazide effect, 0 (none) to 1 (full).
+    pub thiazide_effect: f64,
 }
 
 impl Inputs {
@@ -118,6 +128,11 @@ impl Inputs {
             self.glucose_out_mmol_h,
             self.albumin_out_g_h,
             self.blood_loss_l_h,
+            self.desmopressin_depot_ug_h,
+            self.desmopressin_ug_h,
+            self.v2_antagonist_mg_h,
+            self.loop_diuretic_effect,
+            self.thiazide_effect,
         ]
     }
 
@@ -137,6 +152,11 @@ impl Inputs {
             glucose_out_mmol_h: p[10],
             albumin_out_g_h: p[11],
             blood_loss_l_h: p[12],
+            desmopressin_depot_ug_h: p[13],
+            desmopressin_ug_h: p[14],
+            v2_antagonist_mg_h: p[15],
+            loop_diuretic_effect: p[16],
+            thiazide_effect: p[17],
         }
     }
 
@@ -144,7 +164,11 @@ impl Inputs {
     pub fn plus(&self, o: &Inputs) -> Inputs {
         let (a, b) = (self.to_vec(), o.to_vec());
         let s: Vec<f64> = a.iter().zip(b.iter()).map(|(x, y)| x + y).collect();
-        Inputs::from_slice(&s)
+        let mut sum = Inputs::from_slice(&s);
+        // Drug effects do not add beyond full effect.
+        sum.loop_diuretic_effect = sum.loop_diuretic_effect.min(1.0);
+        sum.thiazide_effect = sum.thiazide_effect.min(1.0);
+        sum
     }
 }
 
@@ -175,8 +199,14 @@ pub struct Calibration {
     pub plasma_protein0_g: f64,
     /// Blood volume at the start, L.
     pub blood_volume0_l: f64,
-    /// Extracellular water at the start, L.
+    /// Normal extracellular water (the start plus any deficit), L: the
+    /// reference of volume natriuresis.
     pub ecf0_l: f64,
+    /// Normal blood volume (the start plus any deficit), L: the reference
+    /// of volume-driven vasopressin.
+    pub blood_volume_normal_l: f64,
+    /// Most dilute urine (narrowed when GFR is low), mOsm/kg.
+    pub urine_osm_min: f64,
     /// Tissue-cell hydraulic conductance, L/h/mmHg.
     pub cell_conductance: f64,
     /// Brain-cell hydraulic conductance, L/h/mmHg.
@@ -234,9 +264,11 @@ pub struct Calibration {
     pub k_excretion0_mmol_h: f64,
     /// Plasma potassium at the start, mmol/L.
     pub k0_mmol_l: f64,
+    /// Plasma sodium at the start, mmol/L.
+    pub na0_mmol_l: f64,
     /// Fractional excretion of filtered urea.
     pub urea_fractional_excretion: f64,
-    /// Maximal urine osmolality at this age, mOsm/kg.
+    /// Maximal urine osmolality at this age and GFR, mOsm/kg.
     pub urine_osm_max: f64,
     /// Habitual water intake, L/h.
     pub habitual_water_l_h: f64,
@@ -317,12 +349,12 @@ pub struct Fluxes {
     pub urea_generation_mmol_h: f64,
     /// Glucose production, mmol/h.
     pub glucose_production_mmol_h: f64,
-    /// Habitual water intake, L/h.
-    pub habitual_water_l_h: f64,
-    /// Habitual sodium intake, mmol/h.
-    pub habitual_na_mmol_h: f64,
-    /// Habitual potassium intake, mmol/h.
-    pub habitual_k_mmol_h: f64,
+    /// V2 agonism the collecting duct is moving toward, pmol/L.
+    pub v2_target_pmol_l: f64,
+    /// Drinking driven by thirst, L/h.
+    pub thirst_water_l_h: f64,
+    /// Blood volume, L.
+    pub blood_volume_l: f64,
     /// Fraction of blood volume lost per hour, 1/h.
     pub blood_loss_per_h: f64,
 }
@@ -530,6 +562,16 @@ impl Model {
         let na_excretion0 = units::per_day_to_per_h(p.na_intake_mmol_day);
         let k_excretion0 = units::per_day_to_per_h(p.k_intake_mmol_day);
         let urea_fe = (urea_generation / (gfr_l_h * patient.urea_mmol_l)).clamp(0.05, 1.0);
+        let (urine_osm_min, urine_osm_max) = kidney::concentrating_range(
+            p.urine_osm_min,
+            kidney::max_urine_osmolality_for_age(
+                p.urine_osm_max,
+                p.urine_osm_max_decline_per_year,
+                patient.age_years,
+            ),
+            p.gfr_ml_min,
+            p.ckd_gfr_ml_min,
+        );
 
         let mut calibration = Calibration {
             weight_kg: patient.weight_kg,
@@ -544,7 +586,9 @@ impl Model {
             red_cell_osmoles0: red_cell_osmoles,
             plasma_protein0_g: albumin_p + globulin_p,
             blood_volume0_l: blood_volume0,
-            ecf0_l: ecf,
+            ecf0_l: ecf / (1.0 - p.ecf_deficit_fraction),
+            blood_volume_normal_l: blood_volume0 / (1.0 - p.ecf_deficit_fraction),
+            urine_osm_min: urine_osm_min,
             cell_conductance,
             brain_conductance,
             red_cell_conductance,
@@ -574,12 +618,9 @@ impl Model {
             na_excretion_max_mmol_h: 0.1 * gfr_l_h * patient.na,
             k_excretion0_mmol_h: k_excretion0,
             k0_mmol_l: patient.k,
+            na0_mmol_l: patient.na,
             urea_fractional_excretion: urea_fe,
-            urine_osm_max: kidney::max_urine_osmolality_for_age(
-                p.urine_osm_max,
-                p.urine_osm_max_decline_per_year,
-                patient.age_years,
-            ),
+            urine_osm_max: urine_osm_max,
             habitual_water_l_h: 0.0,
             habitual_na_mmol_h: 0.0,
             habitual_k_mmol_h: 0.0,
@@ -614,7 +655,18 @@ impl Model {
         y[S::RedCellOsmoles as usize] = red_cell_osmoles;
         y[S::BrainOsmolytes as usize] = brain_osmolytes;
 
-        // Habitual intake balances resting output (free-living steady state).
+        // The collecting duct starts in step with plasma vasopressin.
+        {
+            let probe = Model {
+                params: p.clone(),
+                calibration: calibration.clone(),
+                switches,
+            };
+            y[S::RenalV2Effect as usize] = probe.fluxes(&y, &Inputs::default()).v2_target_pmol_l;
+        }
+        // Habitual intake balances resting output (free-living steady state)
+        // unless a habitual water intake is given. The simulation starts it
+        // as a stream labelled "habitual" that a scenario can stop.
         if switches.habitual_intake {
             let probe = Model {
                 params: p.clone(),
@@ -622,8 +674,11 @@ impl Model {
                 switches,
             };
             let f = probe.fluxes(&y, &Inputs::default());
-            calibration.habitual_water_l_h =
-                (f.urine_l_h + f.insensible_l_h - f.metabolic_water_l_h).max(0.0);
+            calibration.habitual_water_l_h = if p.habitual_water_l_day > 0.0 {
+                units::per_day_to_per_h(p.habitual_water_l_day)
+            } else {
+                (f.urine_l_h + f.insensible_l_h - f.metabolic_water_l_h).max(0.0)
+            };
             if switches.kidneys {
                 calibration.habitual_na_mmol_h = f.urine_na_mmol_h;
                 calibration.habitual_k_mmol_h = f.urine_k_mmol_h;
@@ -637,6 +692,21 @@ impl Model {
             },
             Body { y },
         ))
+    }
+
+    /// The habitual intake (water, salt, potassium) as input rates; zero
+    /// when the habitual-intake switch is off.
+    pub fn habitual_inputs(&self) -> Inputs {
+        if !self.switches.habitual_intake {
+            return Inputs::default();
+        }
+        let c = &self.calibration;
+        Inputs {
+            water_in_l_h: c.habitual_water_l_h,
+            na_in_mmol_h: c.habitual_na_mmol_h,
+            k_in_mmol_h: c.habitual_k_mmol_h,
+            ..Default::default()
+        }
     }
 
     /// Every flow at state `y` under inputs `u`.
@@ -753,19 +823,36 @@ impl Model {
             p.avp_threshold_mosm_kg,
             p.avp_slope_pmol_l_per_mosm,
         );
+        let volume_avp = kidney::volume_vasopressin_pmol_l(
+            1.0 - blood_volume / c.blood_volume_normal_l,
+            p.volume_avp_threshold_fraction,
+            p.volume_avp_gain_pmol_l,
+        );
+        let stimulated = osmotic_avp + volume_avp;
         let vasopressin = if p.avp_floor_pmol_l > 0.0 {
             p.avp_floor_pmol_l
-                + crate::physiology::smooth_positive(osmotic_avp - p.avp_floor_pmol_l, 0.2)
+                + crate::physiology::smooth_positive(stimulated - p.avp_floor_pmol_l, 0.2)
         } else {
-            osmotic_avp
+            stimulated
         };
-        let urine_osm = kidney::urine_osmolality(
-            vasopressin,
-            p.urine_osm_min,
-            c.urine_osm_max,
+        // V2 agonism: vasopressin plus desmopressin, blunted by an antagonist;
+        // the collecting duct follows it with a lag (state RenalV2Effect).
+        let desmopressin_equiv =
+            p.desmopressin_avp_equiv_pmol_l_per_ug * s(S::Desmopressin).max(0.0);
+        let antagonism = 1.0 / (1.0 + s(S::V2Antagonist).max(0.0) / p.v2_antagonist_ki_mg);
+        let v2_target = (vasopressin + desmopressin_equiv) * antagonism;
+        let thiazide = u.thiazide_effect.clamp(0.0, 1.0);
+        let loop_effect = u.loop_diuretic_effect.clamp(0.0, 1.0);
+        let osm_min =
+            c.urine_osm_min + thiazide * (p.thiazide_min_urine_osm - c.urine_osm_min).max(0.0);
+        let concentrated = kidney::urine_osmolality(
+            s(S::RenalV2Effect),
+            osm_min,
+            c.urine_osm_max.max(osm_min),
             p.avp_half_max_pmol_l,
             p.avp_hill,
         );
+        let urine_osm = concentrated + loop_effect * (p.loop_diuretic_urine_osm - concentrated);
         let (urine_na, urine_k, urine_urea, urine_glucose, urine) = if self.switches.kidneys {
             let ecf = v_p + v_i;
             let e_na = kidney::sodium_excretion_mmol_h(
@@ -773,13 +860,16 @@ impl Model {
                 p.natriuresis_gain,
                 (ecf - c.ecf0_l) / c.ecf0_l,
                 c.na_excretion_max_mmol_h,
-            );
+            ) + (loop_effect * p.loop_diuretic_na_mmol_h
+                + thiazide * p.thiazide_na_mmol_h)
+                * (na_p / c.na0_mmol_l).min(1.5);
             let e_k = kidney::potassium_excretion_mmol_h(
                 c.k_excretion0_mmol_h,
                 k_p,
                 c.k0_mmol_l,
                 p.kaliuresis_exponent,
-            );
+            ) + (loop_effect * p.loop_diuretic_k_mmol_h + thiazide * p.thiazide_k_mmol_h)
+                * (k_p / c.k0_mmol_l).min(1.5);
             let e_u = c.urea_fractional_excretion * c.gfr_l_h * u_p.max(0.0);
             let e_g =
                 kidney::glucose_excretion_mmol_h(c.gfr_l_h, g_p, p.glucose_renal_threshold_mmol_l);
@@ -825,9 +915,19 @@ impl Model {
             metabolic_water_l_h: on(sw.metabolic_water, c.metabolic_water_l_h),
             urea_generation_mmol_h: on(sw.urea_generation, c.urea_generation_mmol_h),
             glucose_production_mmol_h: c.glucose_production_mmol_h,
-            habitual_water_l_h: on(sw.habitual_intake, c.habitual_water_l_h),
-            habitual_na_mmol_h: on(sw.habitual_intake, c.habitual_na_mmol_h),
-            habitual_k_mmol_h: on(sw.habitual_intake, c.habitual_k_mmol_h),
+            v2_target_pmol_l: v2_target,
+            thirst_water_l_h: if p.thirst_enabled >= 0.5 {
+                p.thirst_max_l_h.min(
+                    p.thirst_gain_l_h_per_mosm
+                        * crate::physiology::smooth_ramp(
+                            plasma_osm - p.thirst_threshold_mosm_kg,
+                            0.5,
+                        ),
+                )
+            } else {
+                0.0
+            },
+            blood_volume_l: blood_volume,
             blood_loss_per_h: u.blood_loss_l_h / blood_volume.max(1e-9),
         }
     }
@@ -876,7 +976,7 @@ impl Model {
             S::PlasmaL,
             -f.filtration_l_h + f.lymph_l_h - f.red_cell_water_l_h
                 + u.water_in_l_h
-                + f.habitual_water_l_h
+                + f.thirst_water_l_h
                 + f.metabolic_water_l_h
                 - u.water_out_l_h
                 - f.urine_l_h
@@ -885,15 +985,12 @@ impl Model {
         );
         set(
             S::NaPlasma,
-            -t_na + u.na_in_mmol_h + f.habitual_na_mmol_h
-                - u.na_out_mmol_h
-                - f.urine_na_mmol_h
-                - bl_na,
+            -t_na + u.na_in_mmol_h - u.na_out_mmol_h - f.urine_na_mmol_h - bl_na,
         );
         set(S::NaInterstitium, t_na);
         set(
             S::KPlasma,
-            -t_k + u.k_in_mmol_h + f.habitual_k_mmol_h - u.k_out_mmol_h - f.urine_k_mmol_h - bl_k,
+            -t_k + u.k_in_mmol_h - u.k_out_mmol_h - f.urine_k_mmol_h - bl_k,
         );
         set(S::KInterstitium, t_k - f.k_into_cells_mmol_h);
         set(S::KCells, f.k_into_cells_mmol_h);
@@ -929,13 +1026,30 @@ impl Model {
         set(S::GlobulinPlasma, -bl * s(S::GlobulinPlasma));
         set(S::RedCellOsmoles, -bl * s(S::RedCellOsmoles));
         set(S::BrainOsmolytes, f.brain_osmolyte_mosm_h);
+        let p = &self.params;
+        let ln2 = std::f64::consts::LN_2;
+        let absorbed = s(S::DesmopressinDepot).max(0.0) / p.desmopressin_absorption_h;
+        set(S::DesmopressinDepot, u.desmopressin_depot_ug_h - absorbed);
+        set(
+            S::Desmopressin,
+            u.desmopressin_ug_h + absorbed
+                - ln2 / p.desmopressin_half_life_h * s(S::Desmopressin).max(0.0),
+        );
+        set(
+            S::V2Antagonist,
+            u.v2_antagonist_mg_h - ln2 / p.v2_antagonist_half_life_h * s(S::V2Antagonist).max(0.0),
+        );
+        set(
+            S::RenalV2Effect,
+            (f.v2_target_pmol_l - s(S::RenalV2Effect)) / p.v2_response_h,
+        );
 
         set(
             S::InWater,
-            u.water_in_l_h + f.habitual_water_l_h + f.metabolic_water_l_h,
+            u.water_in_l_h + f.thirst_water_l_h + f.metabolic_water_l_h,
         );
-        set(S::InNa, u.na_in_mmol_h + f.habitual_na_mmol_h);
-        set(S::InK, u.k_in_mmol_h + f.habitual_k_mmol_h);
+        set(S::InNa, u.na_in_mmol_h);
+        set(S::InK, u.k_in_mmol_h);
         set(S::InUrea, u.urea_in_mmol_h + f.urea_generation_mmol_h);
         set(
             S::InGlucose,
@@ -1042,7 +1156,7 @@ mod tests {
     fn initial_state_is_steady() {
         let (model, body) = healthy();
         let mut dy = vec![0.0; N_STATES];
-        model.derivative(&body.y, &Inputs::default(), &mut dy);
+        model.derivative(&body.y, &model.habitual_inputs(), &mut dy);
         for i in 0..S::InWater as usize {
             let scale = body.y[i].abs().max(1e-3);
             assert!(
@@ -1052,7 +1166,7 @@ mod tests {
                 dy[i]
             );
         }
-        let f = model.fluxes(&body.y, &Inputs::default());
+        let f = model.fluxes(&body.y, &model.habitual_inputs());
         assert!((f.filtration_l_h - f.lymph_l_h).abs() < 1e-12);
         assert!((f.albumin_escape_g_h - f.albumin_return_g_h).abs() < 1e-9);
     }

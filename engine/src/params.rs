@@ -147,6 +147,32 @@ parameters! {
     kaliuresis_exponent: 2.0, [0.0, 6.0], "1", "Exponent of potassium excretion on plasma potassium relative to its start", "(M)";
     glucose_renal_threshold_mmol_l: 10.0, [5.0, 25.0], "mmol/L", "Plasma glucose above which glucose appears in urine", "MODEL.md section 4";
 
+    volume_avp_threshold_fraction: 0.08, [0.0, 0.5], "1", "Blood-volume deficit (fraction of normal) beyond which vasopressin rises without an osmotic stimulus", "MODEL.md section 4: steep rise past ~8-10 % loss (M)";
+    volume_avp_gain_pmol_l: 150.0, [0.0, 2000.0], "pmol/L per fraction of blood volume", "Rise of vasopressin per fraction of blood volume lost beyond the threshold", "(M): ~10 pmol/L at 15 % loss";
+    ecf_deficit_fraction: 0.0, [0.0, 0.5], "1", "Extracellular volume deficit at the start, as a fraction of normal (hypovolemia)", "patient state";
+    v2_response_h: 0.5, [0.01, 6.0], "h", "Time constant of the collecting duct's response to a change in V2 agonism (vasopressin clearance and water-channel trafficking)", "(M)";
+    desmopressin_half_life_h: 3.0, [0.5, 24.0], "h", "Elimination half-life of desmopressin", "product information of desmopressin, 2-4 h (M)";
+    desmopressin_absorption_h: 0.7, [0.05, 12.0], "h", "Absorption time constant of desmopressin given under the skin, in the nose or by mouth", "(M)";
+    desmopressin_avp_equiv_pmol_l_per_ug: 10.0, [0.1, 200.0], "pmol/L per ug", "Vasopressin-equivalent V2 agonism per microgram of desmopressin in the body", "calibrated: 2 ug IV keeps urine near maximally concentrated for about 10 h (M)";
+    desmopressin_bioavailability_nasal: 0.05, [0.0, 1.0], "1", "Share of an intranasal desmopressin dose that reaches the circulation", "(M)";
+    desmopressin_bioavailability_oral: 0.0016, [0.0, 1.0], "1", "Share of an oral desmopressin dose that reaches the circulation", "(M)";
+    v2_antagonist_half_life_h: 12.0, [1.0, 72.0], "h", "Elimination half-life of the oral V2 antagonist", "(M)";
+    v2_antagonist_ki_mg: 1.0, [0.01, 100.0], "mg", "Body content of V2 antagonist that halves V2 agonism", "(M): 15 mg gives an aquaresis lasting about a day";
+    loop_diuretic_na_mmol_h: 45.0, [0.0, 300.0], "mmol/h", "Extra sodium excretion at full loop-diuretic effect", "(M): ~40 mg furosemide IV, urine Na ~100 mmol/L at 2-3 L over 6 h";
+    loop_diuretic_k_mmol_h: 6.0, [0.0, 100.0], "mmol/h", "Extra potassium excretion at full loop-diuretic effect", "(M)";
+    loop_diuretic_urine_osm: 300.0, [150.0, 500.0], "mOsm/kg", "Urine osmolality a loop diuretic pulls toward (the medullary gradient is lost)", "common practice (M)";
+    loop_diuretic_full_dose_mg: 40.0, [1.0, 500.0], "mg", "Dose of a loop diuretic (furosemide-equivalent) giving full effect", "(M)";
+    loop_diuretic_duration_h: 6.0, [1.0, 24.0], "h", "Duration of effect of a loop-diuretic dose", "common practice (M)";
+    thiazide_min_urine_osm: 250.0, [50.0, 500.0], "mOsm/kg", "Most dilute urine at full thiazide effect (impaired diluting segment)", "(M)";
+    thiazide_na_mmol_h: 3.0, [0.0, 50.0], "mmol/h", "Extra sodium excretion at full thiazide effect", "(M)";
+    thiazide_k_mmol_h: 1.5, [0.0, 50.0], "mmol/h", "Extra potassium excretion at full thiazide effect", "(M)";
+    ckd_gfr_ml_min: 60.0, [10.0, 120.0], "mL/min", "GFR below which the concentrating and diluting range narrows in proportion", "(M)";
+    habitual_water_l_day: 0.0, [0.0, 30.0], "L/day", "Habitual water intake (0: whatever balances output at the start)", "patient state";
+    thirst_enabled: 0.0, [0.0, 1.0], "1", "1 = the patient drinks when thirsty; 0 = drinks only what the scenario gives", "model switch";
+    thirst_threshold_mosm_kg: 298.0, [280.0, 320.0], "mOsm/kg", "Plasma osmolality at which thirst begins", "Baylis & Robertson, J R Soc Med 1980";
+    thirst_gain_l_h_per_mosm: 0.1, [0.0, 2.0], "L/h per mOsm/kg", "Drinking rate per mOsm/kg above the thirst threshold", "(M)";
+    thirst_max_l_h: 1.0, [0.0, 5.0], "L/h", "Largest drinking rate", "(M)";
+
     // --- brain adaptation (MODEL.md section 6) --------------------------------
     brain_adaptive_fraction: 0.25, [0.0, 0.6], "1", "Share of brain-cell osmoles that can be shed or regained to defend volume", "(M)";
     brain_osmolyte_loss_h: 24.0, [1.0, 200.0], "h", "Time constant of losing adaptive osmolytes in hypotonicity", "MODEL.md section 6: electrolytes in hours, organic osmolytes 1-2 days (M)";

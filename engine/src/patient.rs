@@ -58,6 +58,12 @@ pub struct Patient {
     /// "acute" (< 48 h: brain not adapted) or "chronic" (the default).
     #[serde(default)]
     pub onset: Option<String>,
+    /// What keeps sodium where it is (see [`crate::causes::Cause`]):
+    /// none, hypovolemic, inappropriate_antidiuresis, reset_osmostat,
+    /// low_solute_intake, primary_polydipsia, diuretic_induced,
+    /// insulin_deficiency.
+    #[serde(default)]
+    pub cause: Option<String>,
 }
 
 /// Sex, for body-water rules of thumb and formulas.
@@ -108,6 +114,8 @@ pub struct ResolvedPatient {
     pub hematocrit: f64,
     /// Onset.
     pub onset: Onset,
+    /// Cause.
+    pub cause: crate::causes::Cause,
 }
 
 fn check_range(field: &str, value: f64, min: f64, max: f64, unit: &str) -> Result<f64, InputError> {
@@ -281,7 +289,12 @@ impl Patient {
                 })
             }
         };
+        let cause = match &self.cause {
+            Some(c) => crate::causes::Cause::parse(c)?,
+            None => crate::causes::Cause::None,
+        };
         Ok(ResolvedPatient {
+            cause,
             sex,
             age_years,
             weight_kg,

@@ -101,6 +101,103 @@ impl Stream {
         })
     }
 
+    /// A dose of desmopressin by a route. Intravenous doses enter the
+    /// circulation over 5 min; other routes enter an absorption depot over
+    /// 5 min, scaled by their bioavailability (from `params`).
+    pub fn desmopressin(dose_ug: f64, route: Route, params: &Params) -> Result<Self, InputError> {
+        check_dose("desmopressin dose", dose_ug, 0.0, 1000.0, "ug")?;
+        let over_h = 5.0 / 60.0;
+        let rates = match route {
+            Route::Intravenous => Inputs {
+                desmopressin_ug_h: dose_ug / over_h,
+                ..Default::default()
+            },
+            Route::Subcutaneous => Inputs {
+                desmopressin_depot_ug_h: dose_ug / over_h,
+                ..Default::default()
+            },
+            Route::Intranasal => Inputs {
+                desmopressin_depot_ug_h: dose_ug * params.desmopressin_bioavailability_nasal
+                    / over_h,
+                ..Default::default()
+            },
+            Route::Oral => Inputs {
+                desmopressin_depot_ug_h: dose_ug * params.desmopressin_bioavailability_oral
+                    / over_h,
+                ..Default::default()
+            },
+        };
+        Ok(Stream {
+            label: "desmopressin".into(),
+            rates,
+            duration_h: Some(over_h),
+        })
+    }
+
+    /// An oral dose of a V2 antagonist (mg), absorbed over 2 h.
+    pub fn v2_antagonist(dose_mg: f64) -> Result<Self, InputError> {
+        check_dose("V2 antagonist dose", dose_mg, 0.0, 500.0, "mg")?;
+        Ok(Stream {
+            label: "v2_antagonist".into(),
+            rates: Inputs {
+                v2_antagonist_mg_h: dose_mg / 2.0,
+                ..Default::default()
+            },
+            duration_h: Some(2.0),
+        })
+    }
+
+    /// A dose of a loop diuretic (furosemide-equivalent mg): effect in
+    /// proportion to the dose up to full effect, for the effect duration
+    /// of `params`.
+    pub fn loop_diuretic(dose_mg: f64, params: &Params) -> Result<Self, InputError> {
+        check_dose("loop diuretic dose", dose_mg, 0.0, 1000.0, "mg")?;
+        Ok(Stream {
+            label: "loop_diuretic".into(),
+            rates: Inputs {
+                loop_diuretic_effect: (dose_mg / params.loop_diuretic_full_dose_mg).min(1.0),
+                ..Default::default()
+            },
+            duration_h: Some(params.loop_diuretic_duration_h),
+        })
+    }
+
+    /// A thiazide taken daily: full effect until stopped.
+    pub fn thiazide() -> Self {
+        Stream {
+            label: "thiazide".into(),
+            rates: Inputs {
+                thiazide_effect: 1.0,
+                ..Default::default()
+            },
+            duration_h: None,
+        }
+    }
+
+    /// Tablets or sachets by mouth: sodium (as salt), potassium (as its
+    /// chloride) and urea, absorbed over 1 h.
+    pub fn tablets(na_mmol: f64, k_mmol: f64, urea_g: f64) -> Result<Self, InputError> {
+        check_dose("sodium", na_mmol, 0.0, 2000.0, "mmol")?;
+        check_dose("potassium", k_mmol, 0.0, 500.0, "mmol")?;
+        check_dose("urea", urea_g, 0.0, 200.0, "g")?;
+        if na_mmol + k_mmol + urea_g <= 0.0 {
+            return Err(InputError::Missing {
+                field: "tablets".into(),
+                why: "give an amount of sodium, potassium or urea".into(),
+            });
+        }
+        Ok(Stream {
+            label: "tablets".into(),
+            rates: Inputs {
+                na_in_mmol_h: na_mmol,
+                k_in_mmol_h: k_mmol,
+                urea_in_mmol_h: urea_g * 1000.0 / crate::units::UREA_G_PER_MOL,
+                ..Default::default()
+            },
+            duration_h: Some(1.0),
+        })
+    }
+
     /// Give the stream another label.
     pub fn labelled(mut self, label: &str) -> Self {
         self.label = label.to_string();
@@ -128,6 +225,50 @@ fn check_volume_duration(volume_l: f64, duration_h: f64) -> Result<(), InputErro
         });
     }
     check_rate(volume_l / duration_h)
+}
+
+fn check_dose(field: &str, value: f64, min: f64, max: f64, unit: &str) -> Result<(), InputError> {
+    if value.is_finite() && value >= min && value <= max {
+        Ok(())
+    } else {
+        Err(InputError::OutOfRange {
+            field: field.into(),
+            value,
+            min,
+            max,
+            unit: unit.into(),
+        })
+    }
+}
+
+/// How a drug is given.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub enum Route {
+    /// Into a vein.
+    Intravenous,
+    /// Under the skin.
+    Subcutaneous,
+    /// Into the nose.
+    Intranasal,
+    /// By mouth.
+    Oral,
+}
+
+impl Route {
+    /// Parse "iv", "sc", "nasal", "oral" (and long forms).
+    pub fn parse(text: &str) -> Result<Self, InputError> {
+        match text.trim().to_ascii_lowercase().as_str() {
+            "iv" | "intravenous" => Ok(Route::Intravenous),
+            "sc" | "subcutaneous" => Ok(Route::Subcutaneous),
+            "nasal" | "intranasal" | "in" => Ok(Route::Intranasal),
+            "oral" | "po" => Ok(Route::Oral),
+            _ => Err(InputError::BadChoice {
+                field: "route".into(),
+                value: text.into(),
+                expected: "iv, sc, nasal, oral".into(),
+            }),
+        }
+    }
 }
 
 fn check_rate(rate_l_h: f64) -> Result<(), InputError> {
@@ -239,6 +380,9 @@ pub struct Plan {
     pub sample_every_h: f64,
     /// Interval of controller checks, h (none: no checks).
     pub check_every_h: Option<f64>,
+    /// Parameter overrides by name, applied after the patient's cause (so
+    /// they win over it). Set with [`Plan::set_param`].
+    pub overrides: Vec<(String, f64)>,
     /// Guideline limits to flag.
     pub limits: LimitChoice,
     /// Solver settings.
@@ -256,6 +400,7 @@ impl Plan {
             duration_h: 48.0,
             sample_every_h: 5.0 / 60.0,
             check_every_h: None,
+            overrides: Vec::new(),
             limits: LimitChoice::default(),
             tolerances: Tolerances::default(),
         }
@@ -265,6 +410,13 @@ impl Plan {
     pub fn closed_system(mut self) -> Self {
         self.switches = Switches::closed();
         self
+    }
+
+    /// Override a parameter by name (checked now; applied after the cause).
+    pub fn set_param(mut self, name: &str, value: f64) -> Result<Self, InputError> {
+        self.params.clone().set(name, value)?;
+        self.overrides.push((name.to_string(), value));
+        Ok(self)
     }
 
     /// Set the run length.
@@ -538,7 +690,12 @@ impl Simulation {
     pub fn new(plan: Plan) -> Result<Self, SimulationError> {
         plan.check()?;
         let patient = plan.patient.resolve(&plan.params)?;
-        let (model, initial) = Model::new(&patient, &plan.params, plan.switches)?;
+        let mut params = plan.params.clone();
+        patient.cause.apply(&patient, &mut params);
+        for (name, value) in &plan.overrides {
+            params.set(name, *value)?;
+        }
+        let (model, initial) = Model::new(&patient, &params, plan.switches)?;
         Ok(Simulation {
             plan,
             patient,
@@ -579,6 +736,38 @@ impl Simulation {
         let mut problem = build_problem(self.model.clone(), &self.initial.y, &plan.tolerances)?;
         let ctx = *problem.context();
         let mut schedule = Schedule::new(plan);
+        let habitual_rates = self.model.habitual_inputs();
+        if habitual_rates != Inputs::default() {
+            // Habitual intake is an ordinary stream: a scenario can stop it
+            // (nil by mouth, fluid restriction).
+            let habitual = Stream {
+                label: "habitual".into(),
+                rates: habitual_rates,
+                duration_h: None,
+            };
+            schedule.events.insert(
+                0,
+                Event {
+                    time_h: 0.0,
+                    action: Action::Start(habitual),
+                },
+            );
+        }
+        for (k, stream) in self
+            .patient
+            .cause
+            .standing_streams()
+            .into_iter()
+            .enumerate()
+        {
+            schedule.events.insert(
+                k,
+                Event {
+                    time_h: 0.0,
+                    action: Action::Start(stream),
+                },
+            );
+        }
         let mut samples: Vec<Sample> = Vec::new();
         let n_grid = (end / plan.sample_every_h + 1e-9).floor() as usize;
         let mut grid: Vec<f64> = (0..=n_grid)

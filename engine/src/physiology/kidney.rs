@@ -29,6 +29,22 @@ pub fn max_urine_osmolality_for_age(max_young: f64, decline_per_year: f64, age_y
     (max_young - decline_per_year * (age_years - 30.0).max(0.0)).max(500.0_f64.min(max_young))
 }
 
+/// Vasopressin released by a fall of blood volume (pmol/L): `gain ·
+/// max(0, deficit − threshold)` where `deficit` is the fraction of normal
+/// blood volume missing (non-osmotic release, steep past ~8–10 % loss).
+pub fn volume_vasopressin_pmol_l(deficit_fraction: f64, threshold: f64, gain: f64) -> f64 {
+    gain * smooth_ramp(deficit_fraction - threshold, 0.01)
+}
+
+/// Range of urine osmolality (min, max) narrowed in proportion to GFR
+/// below `ckd_gfr` (the failing kidney drifts toward isosthenuria,
+/// ~300 mOsm/kg).
+pub fn concentrating_range(min: f64, max: f64, gfr: f64, ckd_gfr: f64) -> (f64, f64) {
+    let f = (gfr / ckd_gfr).min(1.0);
+    let iso = 300.0;
+    (iso + (min - iso) * f, iso + (max - iso) * f)
+}
+
 /// Urine flow (L/h) = osmolar excretion (mOsm/h) / urine osmolality
 /// (mOsm/kg, ≈ mOsm/L of urine water).
 pub fn urine_flow_l_h(solute_mosm_h: f64, urine_osm: f64) -> f64 {

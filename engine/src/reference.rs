@@ -1,6 +1,8 @@
-//! The reference case used by benchmarks: an invented patient with chronic
-//! hyponatremia given three 3 % saline boluses and then isotonic saline,
-//! with checks every 2 h, over 48 h.
+//! The reference case used by benchmarks and the demonstration: an invented
+//! patient with chronic hypovolemic hyponatremia given three 3 % saline
+//! boluses and then isotonic saline, with checks every 2 h, over 48 h. As
+//! volume is restored the non-osmotic vasopressin stimulus fades and a water
+//! diuresis follows: the case overcorrects, which is why it teaches.
 
 use crate::fluids::FluidLibrary;
 use crate::patient::Patient;
@@ -14,6 +16,7 @@ pub fn benchmark_plan() -> Plan {
     let patient = Patient {
         na: Some(118.0),
         onset: Some("chronic".into()),
+        cause: Some("hypovolemic".into()),
         ..Patient::healthy("female", 58.0, 62.0)
     };
     let mut plan = Plan::new(patient).run_for(48.0).check_every(2.0);

@@ -43,9 +43,7 @@ fn every_cause_starts_steady_or_explains_why_not() {
 
 #[test]
 fn unknown_cause_is_a_named_error() {
-    let err = Simulation::new(Plan::new(patient(128.0, "bad_luck")))
-        .err()
-        .expect("an error");
+    let err = Simulation::new(Plan::new(patient(128.0, "bad_luck"))).expect_err("an error");
     assert!(err.to_string().contains("cause"), "{err}");
 }
 

@@ -49,6 +49,7 @@
 
 pub mod body;
 pub mod causes;
+pub mod dump;
 pub mod error;
 pub mod fluids;
 pub mod formulas;

@@ -724,18 +724,38 @@ impl Simulation {
         &self.plan
     }
 
-    /// Run the plan without a controller.
-    pub fn run(&self) -> Result<Trajectory, SimulationError> {
-        self.run_with(&mut NoController)
+    /// The piecewise-constant input segments of the plan as planned (no
+    /// controller): `(start_h, end_h, inputs)` for every stretch between
+    /// input changes, covering the whole run. The habitual intake and any
+    /// standing treatment of the patient's cause are included.
+    pub fn planned_segments(&self) -> Vec<(f64, f64, Inputs)> {
+        let end = self.plan.duration_h;
+        let mut schedule = self.initial_schedule();
+        schedule.check_every_h = None;
+        schedule.next_check_h = f64::INFINITY;
+        let mut segments: Vec<(f64, f64, Inputs)> = Vec::new();
+        let mut t = 0.0;
+        schedule.advance_to(0.0);
+        loop {
+            let inputs = schedule.inputs();
+            let stop = schedule.next_break(t, end);
+            match segments.last_mut() {
+                Some(last) if last.2 == inputs => last.1 = stop,
+                _ => segments.push((t, stop, inputs)),
+            }
+            if stop >= end - EPS_H {
+                break;
+            }
+            t = stop;
+            schedule.advance_to(t);
+        }
+        segments
     }
 
-    /// Run the plan, consulting `controller` at every check time.
-    pub fn run_with(&self, controller: &mut dyn Controller) -> Result<Trajectory, SimulationError> {
-        let plan = &self.plan;
-        let end = plan.duration_h;
-        let mut problem = build_problem(self.model.clone(), &self.initial.y, &plan.tolerances)?;
-        let ctx = *problem.context();
-        let mut schedule = Schedule::new(plan);
+    /// The schedule at the start: planned events, the habitual intake and
+    /// the standing treatments of the cause.
+    fn initial_schedule(&self) -> Schedule {
+        let mut schedule = Schedule::new(&self.plan);
         let habitual_rates = self.model.habitual_inputs();
         if habitual_rates != Inputs::default() {
             // Habitual intake is an ordinary stream: a scenario can stop it
@@ -768,6 +788,21 @@ impl Simulation {
                 },
             );
         }
+        schedule
+    }
+
+    /// Run the plan without a controller.
+    pub fn run(&self) -> Result<Trajectory, SimulationError> {
+        self.run_with(&mut NoController)
+    }
+
+    /// Run the plan, consulting `controller` at every check time.
+    pub fn run_with(&self, controller: &mut dyn Controller) -> Result<Trajectory, SimulationError> {
+        let plan = &self.plan;
+        let end = plan.duration_h;
+        let mut problem = build_problem(self.model.clone(), &self.initial.y, &plan.tolerances)?;
+        let ctx = *problem.context();
+        let mut schedule = self.initial_schedule();
         let mut samples: Vec<Sample> = Vec::new();
         let n_grid = (end / plan.sample_every_h + 1e-9).floor() as usize;
         let mut grid: Vec<f64> = (0..=n_grid)

@@ -60,7 +60,8 @@ pub mod patient;
 pub mod physiology;
 pub mod reference;
 pub mod simulate;
-mod suggest;
+pub(crate) mod suggest;
+pub mod sweep;
 pub mod trajectory;
 pub mod units;
 

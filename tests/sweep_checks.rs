@@ -37,7 +37,7 @@ fn tmp(name: &str) -> PathBuf {
     dir
 }
 
-fn run_into(spec: &SweepSpec, path: &PathBuf, shard: Shard, threads: usize) -> usize {
+fn run_into(spec: &SweepSpec, path: &std::path::Path, shard: Shard, threads: usize) -> usize {
     sweep::run_sweep(
         spec,
         24.0,

@@ -58,6 +58,7 @@ pub mod params;
 pub mod patient;
 pub mod physiology;
 pub mod reference;
+pub mod scenario;
 pub mod simulate;
 mod suggest;
 pub mod trajectory;

@@ -215,17 +215,7 @@ pub(crate) fn describe_error(err: &EvalAltResult, source: &str) -> (usize, usize
     let message = match e {
         EvalAltResult::ErrorRuntime(d, _) => d.to_string(),
         EvalAltResult::ErrorFunctionNotFound(sig, _) => function_not_found(sig),
-        EvalAltResult::ErrorVariableNotFound(name, _) => {
-            let lib = crate::FluidLibrary::bundled();
-            if lib.get(name).is_ok() {
-                format!("unknown variable `{name}`: a fluid is named in quotes, \"{name}\"")
-            } else {
-                let hint = crate::suggest::closest(name, WORDS.iter().map(|(w, _)| *w))
-                    .map(|s| format!(" (did you mean `{s}(...)`?)"))
-                    .unwrap_or_default();
-                format!("unknown variable `{name}`{hint}; declare it with `let {name} = ...;` first")
-            }
-        }
+        EvalAltResult::ErrorVariableNotFound(name, _) => unknown_variable(name),
         EvalAltResult::ErrorPropertyNotFound(name, _) | EvalAltResult::ErrorDotExpr(name, _) => {
             property_not_found(name)
         }
@@ -251,7 +241,7 @@ pub(crate) fn describe_error(err: &EvalAltResult, source: &str) -> (usize, usize
         }
     };
     let message = match callers.first() {
-        Some((name, p)) if !name.is_empty() => format!(
+        Some((name, p)) if !name.is_empty() && !name.starts_with("anon$") => format!(
             "{message} (in function `{name}` called on line {})",
             p.line().unwrap_or(0)
         ),
@@ -265,9 +255,25 @@ pub(crate) fn describe_error(err: &EvalAltResult, source: &str) -> (usize, usize
     )
 }
 
+fn unknown_variable(name: &str) -> String {
+    let lib = crate::FluidLibrary::bundled();
+    if lib.get(name).is_ok() {
+        format!("unknown variable `{name}`: a fluid is named in quotes, \"{name}\"")
+    } else {
+        let hint = crate::suggest::closest(name, WORDS.iter().map(|(w, _)| *w))
+            .map(|s| format!(" (did you mean `{s}(...)`?)"))
+            .unwrap_or_default();
+        format!("unknown variable `{name}`{hint}; declare it with `let {name} = ...;` first")
+    }
+}
+
 fn function_not_found(sig: &str) -> String {
     let name = sig.split([' ', '(']).next().unwrap_or(sig).trim();
-    let args = sig[name.len()..].trim();
+    let args = sig[name.len()..]
+        .trim()
+        .replace("&str | ImmutableString | String", "text")
+        .replace("i64", "number")
+        .replace("f64", "number");
     if let Some(prop) = name.strip_prefix("get$") {
         return property_not_found(prop);
     }
@@ -280,7 +286,12 @@ fn function_not_found(sig: &str) -> String {
     format!("unknown word `{name}`{hint}; scenarios/README.md lists every word")
 }
 
-fn property_not_found(name: &str) -> String {
+fn property_not_found(text: &str) -> String {
+    // Rhai words it "Unknown property 'x' - a getter is not registered ...".
+    let name = match text.split('\'').nth(1) {
+        Some(n) if text.starts_with("Unknown property") => n,
+        _ => text,
+    };
     let name = name.trim_start_matches("get$");
     let hint = crate::suggest::closest(name, rules::lab_names())
         .map(|s| format!(" (did you mean `{s}`?)"))
@@ -342,7 +353,10 @@ impl Scenario {
                 source,
                 pos.line().unwrap_or(0),
                 pos.position().unwrap_or(0),
-                format!("syntax error: {}", e.err_type()),
+                match e.err_type() {
+                    rhai::ParseErrorType::VariableUndefined(n) => unknown_variable(n),
+                    other => format!("syntax error: {other}"),
+                },
             )
         })?;
         clock.set(Some(Instant::now()));

@@ -393,11 +393,6 @@ fn patient_from_map(ctx: &NativeCallContext, map: &Map, source: &str) -> Res<Pat
         };
         Box::new(EvalAltResult::ErrorRuntime(message.into(), pos))
     };
-    for required in ["sex", "age_years", "weight_kg"] {
-        if !map.contains_key(required) {
-            return fail(ctx, format!("patient: the field `{required}` is required"));
-        }
-    }
     for (key, value) in map {
         let key = key.as_str();
         let num = || {
@@ -453,6 +448,11 @@ fn patient_from_map(ctx: &NativeCallContext, map: &Map, source: &str) -> Res<Pat
                     ),
                 ));
             }
+        }
+    }
+    for required in ["sex", "age_years", "weight_kg"] {
+        if !map.contains_key(required) {
+            return fail(ctx, format!("patient: the field `{required}` is required"));
         }
     }
     // Check now, so an impossible lab is reported at its line.
@@ -1011,8 +1011,15 @@ pub(crate) fn register(engine: &mut Engine, st: &Shared, source: Rc<str>) {
     super::rules::register_labs(engine);
 
     // --- sandbox: words that must not do what they do elsewhere --------
+    const NO_SLEEP: &str = "sleep() is not available in scenario scripts: simulated time moves with at(...) and every(...)";
+    engine.register_fn("sleep", |ctx: NativeCallContext, _x: INT| -> Res<()> {
+        fail(&ctx, NO_SLEEP)
+    });
+    engine.register_fn("sleep", |ctx: NativeCallContext, _x: FLOAT| -> Res<()> {
+        fail(&ctx, NO_SLEEP)
+    });
     engine.register_fn("sleep", |ctx: NativeCallContext, _x: Dynamic| -> Res<()> {
-        fail(&ctx, "sleep() is not available in scenario scripts: simulated time moves with at(...) and every(...)")
+        fail(&ctx, NO_SLEEP)
     });
     for arity in [0, 1] {
         let f = |ctx: NativeCallContext| -> Res<()> {

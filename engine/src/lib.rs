@@ -59,6 +59,7 @@ pub mod params;
 pub mod patient;
 pub mod physiology;
 pub mod reference;
+pub mod scenario;
 pub mod simulate;
 pub(crate) mod suggest;
 pub mod sweep;

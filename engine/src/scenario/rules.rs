@@ -288,6 +288,13 @@ impl ScriptController<'_> {
         column: usize,
         message: String,
     ) -> ScenarioError {
+        // Errors raised outside any statement (limits hit while calling the
+        // closure) point at the rule itself.
+        let (line, column) = if line == 0 {
+            (rule.line, 0)
+        } else {
+            (line, column)
+        };
         ScenarioError::Rule {
             file: self.file.to_string(),
             rule_line: rule.line,

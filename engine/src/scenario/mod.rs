@@ -90,6 +90,8 @@ pub struct Scenario {
     ast: AST,
     state: Shared,
     load_log: Vec<String>,
+    /// Planned starts: (time, script line).
+    started: Vec<(f64, usize)>,
     log: Rc<RefCell<Vec<String>>>,
     clock: Rc<Cell<Option<Instant>>>,
 }
@@ -376,6 +378,22 @@ impl Scenario {
             return Err(script_error(name, source, line, column, message));
         }
         let (plan, build, rules, expectations, title, description) = finish(&state, name, source)?;
+        let started = state
+            .borrow()
+            .events
+            .iter()
+            .filter(|p| p.action.spec.starts_something())
+            .map(|p| {
+                (
+                    p.time_h,
+                    if p.action.line > 0 {
+                        p.action.line
+                    } else {
+                        p.line
+                    },
+                )
+            })
+            .collect();
         let load_log = log.borrow().clone();
         Ok(Scenario {
             name: name.to_string(),
@@ -391,6 +409,7 @@ impl Scenario {
             ast,
             state,
             load_log,
+            started,
             log,
             clock,
         })
@@ -436,6 +455,7 @@ impl Scenario {
     pub fn run(&self) -> Result<ScenarioRun, ScenarioError> {
         let sim = Simulation::new(self.plan.clone()).map_err(|e| ScenarioError::Simulation {
             file: self.name.clone(),
+            line: 0,
             source: e,
         })?;
         *self.log.borrow_mut() = self.load_log.clone();
@@ -450,14 +470,30 @@ impl Scenario {
             log: self.log.clone(),
             clock: self.clock.clone(),
             failure: None,
+            started: self.started.clone(),
         };
         let result = sim.run_with(&mut controller);
         if let Some(f) = controller.failure.take() {
             return Err(f);
         }
-        let trajectory = result.map_err(|e| ScenarioError::Simulation {
-            file: self.name.clone(),
-            source: e,
+        let trajectory = result.map_err(|e| {
+            let t = match &e {
+                SimulationError::Negative { time_h, .. }
+                | SimulationError::Solver { time_h, .. }
+                | SimulationError::Controller { time_h, .. } => *time_h,
+                SimulationError::Input(_) => 0.0,
+            };
+            let line = controller
+                .started
+                .iter()
+                .filter(|(ts, _)| *ts <= t + 1e-9)
+                .max_by(|a, b| a.0.total_cmp(&b.0))
+                .map_or(0, |x| x.1);
+            ScenarioError::Simulation {
+                file: self.name.clone(),
+                line,
+                source: e,
+            }
         })?;
         let log = self.log.borrow().clone();
         let expectations = self
@@ -563,6 +599,7 @@ fn finish(state: &Shared, file: &str, source: &str) -> Result<Finished, Scenario
         }
         other => ScenarioError::Simulation {
             file: file.to_string(),
+            line: 0,
             source: other,
         },
     };

@@ -271,6 +271,8 @@ pub(crate) struct ScriptController<'a> {
     pub log: Rc<RefCell<Vec<String>>>,
     pub clock: Rc<std::cell::Cell<Option<std::time::Instant>>>,
     pub failure: Option<ScenarioError>,
+    /// Starts so far: (time, script line), planned and by rules.
+    pub started: Vec<(f64, usize)>,
 }
 
 /// Whether a rule of interval `every_h` is due at `t`.
@@ -363,6 +365,9 @@ impl ScriptController<'_> {
                 "t = {t:.2} h: rule of line {}: {shown} (Na {:.1} mmol/L)",
                 rule.line, labs.obs.na_mmol_l
             ));
+            if action.spec.starts_something() {
+                self.started.push((t, line));
+            }
             out.extend(built);
         }
         Ok(out)

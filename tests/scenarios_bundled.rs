@@ -59,3 +59,31 @@ fn every_bundled_scenario_meets_its_expectations_and_balances() {
     }
     assert!(failures.is_empty(), "{}", failures.join("\n"));
 }
+
+/// The script path end to end against a published formula: in a closed
+/// system, 1 L of 3 % saline (513 mmol/L) given to a patient with 30 L of
+/// body water and sodium 120 mmol/L raises sodium by
+/// (513 − 120) / (30 + 1) = 12.68 mmol/L (Adrogué & Madias, NEJM 2000;
+/// REFERENCES.md check M1). Within 5 %, as the Rust-built check allows.
+#[test]
+fn a_script_agrees_with_adrogue_madias_in_a_closed_system() {
+    let script = r#"
+        title("Closed-system check");
+        description("One litre of 3 % saline in a closed system.");
+        patient(#{ sex: "female", age_years: 50, weight_kg: 60, water_fraction: 0.5, na: 120 });
+        closed_system();
+        run_for(hours(24));
+        at(hours(0), infuse("saline_3", litres(1), hours(1)));
+        expect_change("na", hours(0), hours(24), 12.05, 13.31);
+    "#;
+    let scenario = Scenario::from_source("closed.rhai", script, Path::new(".")).unwrap();
+    let run = scenario.run().unwrap();
+    let predicted = (513.0 - 120.0) / (30.0 + 1.0);
+    let change = run.trajectory.last().obs.na_mmol_l - 120.0;
+    assert!(
+        (change - predicted).abs() / predicted < 0.05,
+        "{change} vs {predicted}"
+    );
+    assert!(run.all_expectations_hold(), "{:?}", run.expectations);
+    assert!(run.trajectory.max_balance_residual() < 1e-6);
+}

@@ -64,10 +64,14 @@ pub enum ScenarioError {
         message: String,
     },
     /// The simulation itself failed (a pool emptied, the solver failed).
-    #[error("{file}: the simulation failed: {source}")]
+    /// `line` is the last action started at or before the failure (0 if
+    /// none), the likeliest cause.
+    #[error("{file}{}: the simulation failed: {source}{}", if *line > 0 { format!(":{line}") } else { String::new() }, if *line > 0 { format!("\n  (the last action started before then is on line {line})") } else { String::new() })]
     Simulation {
         /// Script file name.
         file: String,
+        /// Line of the last action started before the failure (0 if none).
+        line: usize,
         /// The engine's error.
         source: SimulationError,
     },
@@ -79,7 +83,8 @@ impl ScenarioError {
         match self {
             ScenarioError::Script { line, .. }
             | ScenarioError::Rule { line, .. }
-            | ScenarioError::Data { line, .. } => *line,
+            | ScenarioError::Data { line, .. }
+            | ScenarioError::Simulation { line, .. } => *line,
             _ => 0,
         }
     }

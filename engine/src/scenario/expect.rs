@@ -99,6 +99,7 @@ fn unit(quantity: &str) -> &'static str {
         .find(|(n, _)| *n == quantity)
         .map(|(_, u)| *u)
         .or_else(|| OBS_LABS.iter().find(|l| l.name == quantity).map(|l| l.unit))
+        .filter(|u| *u != "1")
         .unwrap_or("")
 }
 

@@ -90,6 +90,8 @@ pub struct Scenario {
     ast: AST,
     state: Shared,
     load_log: Vec<String>,
+    /// Planned starts: (time, script line).
+    started: Vec<(f64, usize)>,
     log: Rc<RefCell<Vec<String>>>,
     clock: Rc<Cell<Option<Instant>>>,
 }
@@ -376,6 +378,22 @@ impl Scenario {
             return Err(script_error(name, source, line, column, message));
         }
         let (plan, build, rules, expectations, title, description) = finish(&state, name, source)?;
+        let started = state
+            .borrow()
+            .events
+            .iter()
+            .filter(|p| p.action.spec.starts_something())
+            .map(|p| {
+                (
+                    p.time_h,
+                    if p.action.line > 0 {
+                        p.action.line
+                    } else {
+                        p.line
+                    },
+                )
+            })
+            .collect();
         let load_log = log.borrow().clone();
         Ok(Scenario {
             name: name.to_string(),
@@ -391,6 +409,7 @@ impl Scenario {
             ast,
             state,
             load_log,
+            started,
             log,
             clock,
         })
@@ -436,6 +455,7 @@ impl Scenario {
     pub fn run(&self) -> Result<ScenarioRun, ScenarioError> {
         let sim = Simulation::new(self.plan.clone()).map_err(|e| ScenarioError::Simulation {
             file: self.name.clone(),
+            line: 0,
             source: e,
         })?;
         *self.log.borrow_mut() = self.load_log.clone();
@@ -450,14 +470,30 @@ impl Scenario {
             log: self.log.clone(),
             clock: self.clock.clone(),
             failure: None,
+            started: self.started.clone(),
         };
         let result = sim.run_with(&mut controller);
         if let Some(f) = controller.failure.take() {
             return Err(f);
         }
-        let trajectory = result.map_err(|e| ScenarioError::Simulation {
-            file: self.name.clone(),
-            source: e,
+        let trajectory = result.map_err(|e| {
+            let t = match &e {
+                SimulationError::Negative { time_h, .. }
+                | SimulationError::Solver { time_h, .. }
+                | SimulationError::Controller { time_h, .. } => *time_h,
+                SimulationError::Input(_) => 0.0,
+            };
+            let line = controller
+                .started
+                .iter()
+                .filter(|(ts, _)| *ts <= t + 1e-9)
+                .max_by(|a, b| a.0.total_cmp(&b.0))
+                .map_or(0, |x| x.1);
+            ScenarioError::Simulation {
+                file: self.name.clone(),
+                line,
+                source: e,
+            }
         })?;
         let log = self.log.borrow().clone();
         let expectations = self
@@ -563,6 +599,7 @@ fn finish(state: &Shared, file: &str, source: &str) -> Result<Finished, Scenario
         }
         other => ScenarioError::Simulation {
             file: file.to_string(),
+            line: 0,
             source: other,
         },
     };
@@ -615,4 +652,90 @@ fn finish(state: &Shared, file: &str, source: &str) -> Result<Finished, Scenario
         title,
         s.description.clone().unwrap_or_default(),
     ))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    const PATIENT: &str =
+        "patient(#{ sex: \"male\", age_years: 50, weight_kg: 80, na: 125, onset: \"chronic\" });\n";
+
+    fn load(body: &str) -> Result<Scenario, ScenarioError> {
+        Scenario::from_source("t.rhai", &format!("{PATIENT}{body}"), Path::new("."))
+    }
+
+    #[test]
+    fn integer_and_float_units_agree() {
+        let a =
+            load("run_for(hours(6));\nat(hours(1), infuse(\"saline_0_9\", litres(1), hours(2)));")
+                .unwrap();
+        let b = load(
+            "run_for(hours(6.0));\nat(minutes(60.0), infuse(\"saline_0_9\", ml(1000.0), minutes(120)));",
+        )
+        .unwrap();
+        assert_eq!(a.plan().events, b.plan().events);
+        assert_eq!(a.plan().duration_h, 6.0);
+    }
+
+    #[test]
+    fn per_kg_volumes_use_the_patients_weight() {
+        // 20 mL/kg for 80 kg is 1.6 L: over 4 h that is 0.4 L/h of water.
+        let s = load("at(hours(0), infuse(\"saline_0_9\", ml_per_kg(20), hours(4)));").unwrap();
+        let ev = &s.plan().events[0];
+        match &ev.action {
+            crate::Action::Start(stream) => {
+                assert!((stream.rates.water_in_l_h - 0.4).abs() < 1e-12);
+                // 0.9 % saline carries 154 mmol/L (REFERENCES.md fluid table).
+                assert!((stream.rates.na_in_mmol_h - 0.4 * 154.0).abs() < 1e-9);
+            }
+            other => panic!("{other:?}"),
+        }
+    }
+
+    #[test]
+    fn print_goes_to_the_log_and_rules_fire_on_their_own_interval() {
+        let s = load(
+            "run_for(hours(3));\nprint(\"loaded\");\nevery(minutes(30), |labs| { print(`half ${labs.time_h}`); });\nevery(hours(1), |labs| { print(`hour ${labs.time_h}`); });",
+        )
+        .unwrap();
+        assert_eq!(s.plan().check_every_h, Some(0.5));
+        let run = s.run().unwrap();
+        let halves = run.log.iter().filter(|l| l.contains("half")).count();
+        let hours = run.log.iter().filter(|l| l.contains("hour")).count();
+        assert_eq!(run.log[0], "loaded");
+        assert_eq!((halves, hours), (7, 4), "{:?}", run.log);
+        // Running twice gives the same log (state is reset per run).
+        assert_eq!(s.run().unwrap().log, run.log);
+    }
+
+    #[test]
+    fn a_rule_acts_at_its_check_time() {
+        let s = load(
+            "run_for(hours(4));\nat(hours(0), infuse_at_rate(\"saline_3\", ml_per_h(100)));\nevery(hours(1), |labs| { if labs.time_h >= 2 { stop(\"saline_3\"); } });",
+        )
+        .unwrap();
+        let run = s.run().unwrap();
+        let t = &run.trajectory;
+        assert!(t.at(1.9).inputs.na_in_mmol_h > 0.0);
+        assert_eq!(
+            t.at(2.1).inputs.na_in_mmol_h - t.at(3.0).inputs.na_in_mmol_h,
+            0.0
+        );
+        assert!(t.at(2.1).inputs.na_in_mmol_h < t.at(1.9).inputs.na_in_mmol_h);
+        assert!(run
+            .log
+            .iter()
+            .any(|l| l.contains("t = 2.00 h") && l.contains("stop saline_3")));
+    }
+
+    #[test]
+    fn expectations_report_failures_with_their_line() {
+        let s = load("run_for(hours(2));\nexpect_above(\"na\", hours(1), 200);\nexpect_below(\"na\", hours(1), 200);").unwrap();
+        let run = s.run().unwrap();
+        assert!(!run.all_expectations_hold());
+        assert_eq!(run.expectations[0].line, 3);
+        assert!(!run.expectations[0].passed);
+        assert!(run.expectations[1].passed);
+    }
 }

@@ -271,6 +271,8 @@ pub(crate) struct ScriptController<'a> {
     pub log: Rc<RefCell<Vec<String>>>,
     pub clock: Rc<std::cell::Cell<Option<std::time::Instant>>>,
     pub failure: Option<ScenarioError>,
+    /// Starts so far: (time, script line), planned and by rules.
+    pub started: Vec<(f64, usize)>,
 }
 
 /// Whether a rule of interval `every_h` is due at `t`.
@@ -288,6 +290,13 @@ impl ScriptController<'_> {
         column: usize,
         message: String,
     ) -> ScenarioError {
+        // Errors raised outside any statement (limits hit while calling the
+        // closure) point at the rule itself.
+        let (line, column) = if line == 0 {
+            (rule.line, 0)
+        } else {
+            (line, column)
+        };
         ScenarioError::Rule {
             file: self.file.to_string(),
             rule_line: rule.line,
@@ -356,6 +365,9 @@ impl ScriptController<'_> {
                 "t = {t:.2} h: rule of line {}: {shown} (Na {:.1} mmol/L)",
                 rule.line, labs.obs.na_mmol_l
             ));
+            if action.spec.starts_something() {
+                self.started.push((t, line));
+            }
             out.extend(built);
         }
         Ok(out)

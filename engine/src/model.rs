@@ -1157,13 +1157,17 @@ mod tests {
         let (model, body) = healthy();
         let mut dy = vec![0.0; N_STATES];
         model.derivative(&body.y, &model.habitual_inputs(), &mut dy);
-        for i in 0..S::InWater as usize {
-            let scale = body.y[i].abs().max(1e-3);
+        for (i, (rate, value)) in dy
+            .iter()
+            .zip(body.y.iter())
+            .enumerate()
+            .take(S::InWater as usize)
+        {
+            let scale = value.abs().max(1e-3);
             assert!(
-                dy[i].abs() / scale < 1e-9,
-                "{} drifts: {}",
-                crate::body::STATE_NAMES[i],
-                dy[i]
+                rate.abs() / scale < 1e-9,
+                "{} drifts: {rate}",
+                crate::body::STATE_NAMES[i]
             );
         }
         let f = model.fluxes(&body.y, &model.habitual_inputs());

@@ -562,6 +562,19 @@ impl Schedule {
         false
     }
 
+    /// The next time the solver must stop exactly: an event, the end of a
+    /// stream or the end of the run (checks are handled without stopping).
+    fn next_hard_break(&self, t: f64, end: f64) -> f64 {
+        let mut next = end;
+        if let Some(e) = self.events.get(self.next_event) {
+            next = next.min(e.time_h);
+        }
+        for r in &self.running {
+            next = next.min(r.end_h);
+        }
+        next.max(t)
+    }
+
     fn next_break(&self, t: f64, end: f64) -> f64 {
         let mut next = end.min(self.next_check_h);
         if let Some(e) = self.events.get(self.next_event) {
@@ -843,37 +856,71 @@ impl Simulation {
             let mut solver: Bdf<'_, Eqn, LS> = problem
                 .bdf_solver::<LS>(state)
                 .map_err(|e| solver_error(t, e))?;
+            // Checks do not stop the solver: it steps past them and the
+            // controller sees the interpolated state. Only when a check (or
+            // an event) changes the inputs is the solver restarted, from the
+            // state at that moment (`rewind`).
+            let mut rewind: Option<(f64, Vec<f64>)> = None;
             let changed = loop {
                 if t >= end - EPS_H {
                     break false;
                 }
-                let stop = schedule.next_break(t, end);
+                let stop = schedule.next_hard_break(t, end);
                 if stop > t + EPS_H {
                     solver.set_stop_time(stop).map_err(|e| solver_error(t, e))?;
-                    loop {
+                    'steps: loop {
                         let reason = solver
                             .step()
                             .map_err(|e| solver_error(solver.state().t, e))?;
                         let now = solver.state().t;
                         check_negative(&solver.state().y.clone_as_vec(), now, &scales)?;
-                        while next_sample < grid.len() && grid[next_sample] <= now + EPS_H {
-                            let ts = grid[next_sample];
-                            let ys = if (ts - now).abs() <= EPS_H {
-                                solver.state().y.clone_as_vec()
-                            } else {
-                                solver
-                                    .interpolate(ts)
-                                    .map_err(|e| solver_error(ts, e))?
-                                    .clone_as_vec()
+                        // Samples and checks up to `now`, in time order.
+                        loop {
+                            let ts = grid
+                                .get(next_sample)
+                                .copied()
+                                .filter(|&ts| ts <= now + EPS_H);
+                            let tc = Some(schedule.next_check_h).filter(|&tc| {
+                                tc <= now + EPS_H && tc < stop - EPS_H && tc > t + EPS_H
+                            });
+                            let at = |tt: f64| -> Result<Vec<f64>, SimulationError> {
+                                if (tt - now).abs() <= EPS_H {
+                                    Ok(solver.state().y.clone_as_vec())
+                                } else {
+                                    Ok(solver
+                                        .interpolate(tt)
+                                        .map_err(|e| solver_error(tt, e))?
+                                        .clone_as_vec())
+                                }
                             };
-                            check_negative(&ys, ts, &scales)?;
-                            take(&mut samples, ts, ys, &inputs);
-                            next_sample += 1;
+                            match (ts, tc) {
+                                (Some(ts), tc) if tc.is_none_or(|tc| ts <= tc + EPS_H) => {
+                                    let ys = at(ts)?;
+                                    check_negative(&ys, ts, &scales)?;
+                                    take(&mut samples, ts, ys, &inputs);
+                                    next_sample += 1;
+                                }
+                                (_, Some(tc)) => {
+                                    let yc = at(tc)?;
+                                    let new_inputs =
+                                        self.process(tc, &yc, &mut schedule, &samples, controller)?;
+                                    if new_inputs != inputs {
+                                        inputs = new_inputs;
+                                        rewind = Some((tc, yc));
+                                        break 'steps;
+                                    }
+                                }
+                                _ => break,
+                            }
                         }
                         if let OdeSolverStopReason::TstopReached = reason {
                             break;
                         }
                     }
+                }
+                if let Some((tc, _)) = &rewind {
+                    t = *tc;
+                    break true;
                 }
                 t = stop;
                 y = solver.state().y.clone_as_vec();
@@ -888,6 +935,12 @@ impl Simulation {
             stats.error_test_failures += st.number_of_error_test_failures;
             stats.nonlinear_failures += st.number_of_nonlinear_solver_fails;
             state = solver.into_state();
+            if let Some((tc, yc)) = rewind.take() {
+                // Restart from the interpolated state at the check.
+                let st = state.as_mut();
+                st.y.copy_from(&V::from_vec(yc, ctx));
+                *st.t = tc;
+            }
             if !changed {
                 break;
             }

@@ -317,3 +317,47 @@ fn completions_are_generated() {
         );
     }
 }
+
+#[test]
+fn strict_turns_a_crossed_limit_into_exit_one() {
+    // The built-in case overshoots: its rise in the first 24 h exceeds the
+    // 10 mmol/L limit of the European guideline (Spasovski et al. 2014).
+    let root = tempfile::tempdir().unwrap();
+    let dir = root.path().join("strict");
+    let out = tidewater(&["run", "--demo", "--strict", "--out", dir.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(1), "{}", text(&out.stderr));
+    // The report is still written: the run itself succeeded.
+    assert!(dir.join("report.html").is_file());
+    let summary: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.join("summary.json")).unwrap()).unwrap();
+    let rise = summary["sodium"]["largest_rise_24h"]["mmol_l"]
+        .as_f64()
+        .unwrap();
+    assert!(rise > 10.0, "{rise}");
+    assert_eq!(summary["flags"][0]["severity"], "limit");
+    assert_eq!(summary["flags"][0]["max_mmol_l"].as_f64(), Some(10.0));
+    let stderr = text(&out.stderr);
+    assert!(
+        stderr.contains("Caution:") && stderr.contains("flag (limit)"),
+        "{stderr}"
+    );
+    // Without --strict the same run exits 0.
+    let out = tidewater(&["run", "--demo", "--quiet", "--out", dir.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(0));
+    assert!(
+        out.stderr.is_empty(),
+        "--quiet printed: {}",
+        text(&out.stderr)
+    );
+}
+
+#[test]
+fn no_color_keeps_escapes_out() {
+    let out = tidewater(&["fluids", "--file", "/no/such/file.yaml"]);
+    assert_eq!(out.status.code(), Some(2));
+    let err = text(&out.stderr);
+    assert!(
+        err.contains("/no/such/file.yaml") && !err.contains('\u{1b}'),
+        "{err}"
+    );
+}

@@ -397,6 +397,7 @@ fn panel(
     y_desc: &str,
     lines: Vec<Line>,
     include_zero: bool,
+    legend_at: SeriesLabelPosition,
 ) -> Result<()> {
     let mut lo = lines
         .iter()
@@ -448,7 +449,7 @@ fn panel(
     }
     chart
         .configure_series_labels()
-        .position(SeriesLabelPosition::UpperRight)
+        .position(legend_at)
         .background_style(WHITE.mix(0.9))
         .border_style(GRID)
         .label_font((FONT, 12).into_font().color(&INK))
@@ -493,6 +494,7 @@ fn urine_chart(input: &RunInput) -> Result<String> {
                 points: series(traj, |s| s.obs.urine_ml_h),
             }],
             true,
+            SeriesLabelPosition::UpperRight,
         )?;
         panel(
             bottom,
@@ -506,6 +508,7 @@ fn urine_chart(input: &RunInput) -> Result<String> {
                 points: series(traj, |s| s.obs.urine_osm_mosm_kg),
             }],
             true,
+            SeriesLabelPosition::UpperRight,
         )
     })
 }
@@ -546,6 +549,7 @@ fn balance_chart(input: &RunInput) -> Result<String> {
                 "Water (L)",
                 lines(Species::Water, 1.0, "L"),
                 true,
+                SeriesLabelPosition::UpperLeft,
             )?;
             panel(
                 bottom,
@@ -554,6 +558,7 @@ fn balance_chart(input: &RunInput) -> Result<String> {
                 "Sodium (mmol)",
                 lines(Species::Sodium, 1.0, "mmol"),
                 true,
+                SeriesLabelPosition::UpperLeft,
             )
         },
     )

@@ -188,6 +188,14 @@ pub fn slug(text: &str) -> String {
     }
 }
 
+fn capitalise(word: &str) -> String {
+    let mut chars = word.chars();
+    match chars.next() {
+        Some(first) => first.to_uppercase().chain(chars).collect(),
+        None => String::new(),
+    }
+}
+
 fn snake(debug: &str) -> String {
     let mut out = String::new();
     for (i, c) in debug.chars().enumerate() {
@@ -247,7 +255,7 @@ pub fn patient_rows(sim: &Simulation) -> Vec<Row> {
             continue;
         }
         rows.push(row(
-            &format!("Body {} (exchangeable pools)", sp.name()),
+            &format!("{} held in the body (model pools)", capitalise(sp.name())),
             format!("{} {}", fixed(sp.content(y), 0), sp.unit()),
         ));
     }

@@ -1,130 +1,147 @@
 //! `tidewater`: the command line of the Tidewater water and sodium simulator.
 //!
-//! Presentation lives here (tables, files, progress); everything that
-//! computes lives in the `tidewater` engine crate.
+//! Presentation lives here (tables, files, charts, progress); everything
+//! that computes lives in the `tidewater` engine crate.
+//!
+//! * `cli.rs`: options as typed; `options.rs`: the settings used.
+//! * `input.rs`: [`input::RunInput`], what every report is made from (the
+//!   built-in case or a scenario script).
+//! * `summary.rs`: the numbers a reader wants first.
+//! * `report/`: one writer per format behind [`report::Exporter`].
+
+mod cli;
+mod commands;
+mod format;
+mod input;
+mod options;
+mod progress;
+mod report;
+mod summary;
 
 use anyhow::Result;
-use clap::{Parser, Subcommand};
+use clap::{CommandFactory, FromArgMatches};
+use cli::{Cli, Command};
+use options::{RunOptions, RunSource, Style};
 use std::process::ExitCode;
-use std::time::Instant;
-use tidewater::{reference, FluidLibrary, Simulation, CAUTION, PARAMETERS};
+use tidewater::CAUTION;
 
-/// Whole-body water and sodium simulator.
-#[derive(Parser, Debug)]
-#[command(name = "tidewater", bin_name = "tidewater", version, about, long_about = None)]
-struct Cli {
-    #[command(subcommand)]
-    command: Command,
-}
-
-#[derive(Subcommand, Debug)]
-enum Command {
-    /// Run the built-in demonstration case (an invented patient with chronic
-    /// hyponatremia given three 3 % saline boluses, then isotonic saline)
-    /// and print serum sodium every 4 h.
-    Demo,
-    /// Time the reference 48 h run: median over repeated runs, with solver
-    /// step and right-hand-side counts.
-    Bench {
-        /// Number of timed runs.
-        #[arg(long, default_value_t = 200)]
-        runs: usize,
-    },
-    /// List every model parameter with unit, default and source.
-    Params,
-    /// List the bundled fluid library.
-    Fluids,
+/// How a command ended, when it did not fail.
+enum Outcome {
+    /// Everything held.
+    Ok,
+    /// Finished, but an expectation failed or (under --strict) a limit was
+    /// crossed.
+    Failed,
 }
 
 fn main() -> ExitCode {
-    let cli = Cli::parse();
-    match run(cli) {
-        Ok(()) => ExitCode::SUCCESS,
+    let color = if options::no_color() {
+        clap::ColorChoice::Never
+    } else {
+        clap::ColorChoice::Auto
+    };
+    let matches = Cli::command().color(color).get_matches();
+    let cli = match Cli::from_arg_matches(&matches) {
+        Ok(cli) => cli,
+        Err(e) => e.exit(),
+    };
+    let style = Style::detect();
+    match dispatch(cli, style) {
+        Ok(Outcome::Ok) => ExitCode::SUCCESS,
+        Ok(Outcome::Failed) => ExitCode::from(1),
         Err(e) => {
-            eprintln!("error: {e:#}");
+            eprintln!("{} {e:#}", style.bad("error:"));
             ExitCode::from(2)
         }
     }
 }
 
-fn run(cli: Cli) -> Result<()> {
+fn dispatch(cli: Cli, style: Style) -> Result<Outcome> {
     match cli.command {
-        Command::Demo => demo(),
-        Command::Bench { runs } => bench(runs),
+        Command::Run(args) => run(RunOptions::from_args(args), style),
+        Command::RenderReports(args) => Ok(if commands::render_reports(args, style)? {
+            Outcome::Ok
+        } else {
+            Outcome::Failed
+        }),
+        Command::Fluids(args) => commands::fluids(args).map(|_| Outcome::Ok),
+        Command::Patient(args) => commands::patient(args).map(|_| Outcome::Ok),
+        Command::Demo => commands::demo().map(|_| Outcome::Ok),
+        Command::Bench { runs } => commands::bench(runs as usize, style).map(|_| Outcome::Ok),
         Command::Params => {
-            println!("name\tunit\tdefault\tmin\tmax\tsource");
-            for p in PARAMETERS {
-                println!(
-                    "{}\t{}\t{}\t{}\t{}\t{}",
-                    p.name, p.unit, p.default, p.min, p.max, p.source
-                );
-            }
-            Ok(())
+            commands::params();
+            Ok(Outcome::Ok)
         }
-        Command::Fluids => {
-            println!("id\tkind\tNa\tK\tCl\tglucose\talbumin_g_l\tname");
-            for f in FluidLibrary::bundled().fluids {
-                println!(
-                    "{}\t{:?}\t{}\t{}\t{}\t{}\t{}\t{}",
-                    f.id, f.kind, f.na, f.k, f.cl, f.glucose, f.albumin_g_l, f.name
-                );
-            }
-            Ok(())
+        Command::Completions { shell } => {
+            clap_complete::generate(
+                shell,
+                &mut Cli::command(),
+                "tidewater",
+                &mut std::io::stdout(),
+            );
+            Ok(Outcome::Ok)
         }
     }
 }
 
-fn demo() -> Result<()> {
-    let sim = Simulation::new(reference::benchmark_plan())?;
-    let traj = sim.run()?;
-    eprintln!("Caution: {CAUTION}");
-    println!(
-        "time_h\tna_mmol_l\tna_change_24h\turine_ml_h\turine_osm\tplasma_l\tbrain_volume_index"
-    );
-    for (s, c24) in traj.samples.iter().zip(traj.na_change_24h.iter()) {
-        if (s.time_h / 4.0 - (s.time_h / 4.0).round()).abs() < 1e-9 {
-            let o = &s.obs;
-            println!(
-                "{:.1}\t{:.1}\t{:+.1}\t{:.0}\t{:.0}\t{:.2}\t{:.3}",
-                s.time_h,
-                o.na_mmol_l,
-                c24,
-                o.urine_ml_h,
-                o.urine_osm_mosm_kg,
-                o.plasma_l,
-                o.brain_volume_index
+/// `tidewater run`: run, write the report, tell how it went.
+fn run(opts: RunOptions, style: Style) -> Result<Outcome> {
+    if let Some(out) = &opts.out {
+        commands::check_out_dir(out)?;
+    }
+    let run = match &opts.source {
+        RunSource::Demo => input::demo_input()?,
+        RunSource::Script(path) => input::load_script(path)?,
+    };
+    let dir = opts.out_dir(&run.name);
+    let report = report::Report::new(&run)?;
+    report::write_report(&report, &dir)?;
+    let s = &report.summary;
+    if !opts.quiet {
+        eprintln!("{}", style.warn(&format!("Caution: {CAUTION}")));
+        eprintln!("{}", s.title);
+        eprintln!(
+            "serum sodium {} -> {} mmol/L (min {}, max {}); largest rise {} mmol/L in 24 h, {} mmol/L in 48 h",
+            format::fixed(s.sodium.start.mmol_l, 1),
+            format::fixed(s.sodium.end.mmol_l, 1),
+            format::fixed(s.sodium.min.mmol_l, 1),
+            format::fixed(s.sodium.max.mmol_l, 1),
+            format::fixed(s.sodium.largest_rise_24h.mmol_l, 1),
+            format::fixed(s.sodium.largest_rise_48h.mmol_l, 1),
+        );
+        for f in &s.flags {
+            let text = format!(
+                "flag ({}): {} ({} at most {} mmol/L per {} h) crossed at {} h; worst {} mmol/L at {} h",
+                f.severity,
+                f.rule,
+                f.direction,
+                f.max_mmol_l,
+                f.window_h,
+                format::sig(f.time_h, 4),
+                format::fixed(f.worst_change_mmol_l, 1),
+                format::sig(f.worst_time_h, 4)
+            );
+            eprintln!(
+                "{}",
+                if f.severity == "limit" {
+                    style.bad(&text)
+                } else {
+                    style.warn(&text)
+                }
             );
         }
+        for e in &s.expectations {
+            let mark = if e.passed {
+                style.good("held  ")
+            } else {
+                style.bad("FAILED")
+            };
+            eprintln!("{mark} line {}: {} ({})", e.line, e.description, e.detail);
+        }
+        eprintln!("wrote {}", dir.display());
     }
-    for f in &traj.flags {
-        eprintln!(
-            "flag: {} ({}: at most {} mmol/L per {} h) crossed at {:.1} h; worst {:.1} mmol/L at {:.1} h",
-            traj.limits.guideline.id, f.rule.label, f.rule.max_mmol_l, f.rule.window_h, f.time_h, f.worst_change_mmol_l, f.worst_time_h
-        );
-    }
-    Ok(())
-}
-
-fn bench(runs: usize) -> Result<()> {
-    let runs = runs.max(1);
-    let sim = Simulation::new(reference::benchmark_plan())?;
-    let first = sim.run()?;
-    let mut times: Vec<f64> = Vec::with_capacity(runs);
-    for _ in 0..runs {
-        let start = Instant::now();
-        let traj = sim.run()?;
-        times.push(start.elapsed().as_secs_f64());
-        std::hint::black_box(traj);
-    }
-    times.sort_by(f64::total_cmp);
-    let s = first.stats;
-    println!(
-        "reference 48 h run: median {:.1} us over {runs} runs",
-        times[runs / 2] * 1e6
-    );
-    println!(
-        "steps {}  rhs calls {}  jacobian products {}  jacobian evaluations {}  restarts {}  rejected steps {}",
-        s.steps, s.rhs_calls, s.jacobian_products, s.jacobian_evaluations, s.restarts, s.error_test_failures
-    );
-    Ok(())
+    // The data product: where the report is.
+    println!("{}", dir.join("report.html").display());
+    let failed = !run.all_expectations_hold() || (opts.strict && s.limit_crossed());
+    Ok(if failed { Outcome::Failed } else { Outcome::Ok })
 }

@@ -1,0 +1,188 @@
+//! Command-line options as the user types them (clap derive). What the
+//! program does with them is settled in `options.rs`.
+
+use clap::{Args, Parser, Subcommand};
+use std::path::PathBuf;
+
+/// Exit codes, shown in `--help`.
+pub const EXIT_CODES: &str = "\
+Exit codes:
+  0  success
+  1  the run finished but an expectation failed, or a guideline limit was
+     crossed under --strict
+  2  bad input (option, script, YAML file) or a failed run; nothing is written
+
+Data go to stdout or to files; messages go to stderr. Set NO_COLOR to turn
+colour off.";
+
+const ABOUT: &str = "Whole-body water and sodium simulator: plan and teach the correction of \
+serum sodium. A simulation for planning and teaching, not a medical device.";
+
+const EXAMPLES: &str = "\
+Examples:
+  tidewater run --demo                      # report of the built-in case into runs/demo/
+  tidewater run scenarios/bolus.rhai --out /tmp/bolus
+  tidewater run --demo --strict             # exit 1 if a guideline limit is crossed
+  tidewater fluids --json                   # the fluid library as JSON
+  tidewater patient --sex female --age 70 --weight 55 --na 121
+  tidewater patient --file patient.yaml --json
+  tidewater render-reports scenarios/ reports/
+  tidewater completions bash > ~/.local/share/bash-completion/completions/tidewater";
+
+/// Whole-body water and sodium simulator.
+#[derive(Parser, Debug)]
+#[command(
+    name = "tidewater",
+    bin_name = "tidewater",
+    version,
+    about = ABOUT,
+    after_help = format!("{EXAMPLES}\n\n{EXIT_CODES}"),
+)]
+pub struct Cli {
+    /// What to do.
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// The commands (parsed once, so the size of the variants does not matter).
+#[derive(Subcommand, Debug)]
+#[allow(clippy::large_enum_variant)]
+pub enum Command {
+    /// Run a scenario (or the built-in case) and write its report: samples.csv,
+    /// summary.json, SVG charts and report.html.
+    #[command(after_help = format!("Examples:\n  tidewater run --demo --out /tmp/demo\n  tidewater run scenarios/bolus.rhai\n\n{EXIT_CODES}"))]
+    Run(RunArgs),
+    /// Regenerate the rendered report of every bundled scenario (and of the
+    /// built-in case, as `demo`) into REPORTS/<name>/.
+    #[command(after_help = format!("Example:\n  tidewater render-reports scenarios/ reports/\n\n{EXIT_CODES}"))]
+    RenderReports(RenderArgs),
+    /// List the fluid library with compositions (mmol/L; albumin in g/L).
+    #[command(
+        after_help = "Examples:\n  tidewater fluids\n  tidewater fluids --json\n  tidewater fluids --file my_fluids.yaml"
+    )]
+    Fluids(FluidsArgs),
+    /// Show a patient's derived volumes and solute contents, from a YAML file
+    /// or from flags.
+    #[command(
+        after_help = "Examples:\n  tidewater patient --sex male --age 45 --weight 80\n  tidewater patient --sex female --age 70 --weight 55 --na 121 --onset chronic\n  tidewater patient --file patient.yaml --json\n\nThe YAML file takes the fields sex, age_years, weight_kg, height_cm,\nwater_fraction, water_method, na, k, glucose_mmol_l, glucose_mg_dl,\nurea_mmol_l, bun_mg_dl, albumin_g_l, hematocrit, onset, cause.",
+        allow_negative_numbers = true
+    )]
+    Patient(PatientArgs),
+    /// Run the built-in demonstration case and print serum sodium every 4 h
+    /// (for a full report: `tidewater run --demo`).
+    Demo,
+    /// Time the reference 48 h run: median over repeated runs, with solver
+    /// step and right-hand-side counts.
+    Bench {
+        /// Number of timed runs.
+        #[arg(long, default_value_t = 200, value_parser = clap::value_parser!(u64).range(1..=1_000_000))]
+        runs: u64,
+    },
+    /// List every model parameter with unit, default and source.
+    Params,
+    /// Print a shell completion script to stdout.
+    #[command(
+        after_help = "Examples:\n  tidewater completions bash > ~/.local/share/bash-completion/completions/tidewater\n  tidewater completions zsh > ~/.zfunc/_tidewater\n  tidewater completions fish > ~/.config/fish/completions/tidewater.fish"
+    )]
+    Completions {
+        /// The shell.
+        shell: clap_complete::Shell,
+    },
+}
+
+/// Options of `run`.
+#[derive(Args, Debug)]
+pub struct RunArgs {
+    /// Scenario script to run.
+    #[arg(required_unless_present = "demo", conflicts_with = "demo")]
+    pub script: Option<PathBuf>,
+    /// Run the built-in demonstration case instead of a script.
+    #[arg(long)]
+    pub demo: bool,
+    /// Output folder (default: runs/<scenario-name>/). Replaced as a whole
+    /// when the run succeeds; untouched when it fails.
+    #[arg(long, short = 'o', value_name = "DIR")]
+    pub out: Option<PathBuf>,
+    /// Exit with 1 when a guideline limit (severity "limit") is crossed.
+    #[arg(long)]
+    pub strict: bool,
+    /// Print nothing on stderr but errors.
+    #[arg(long, short = 'q')]
+    pub quiet: bool,
+}
+
+/// Options of `render-reports`.
+#[derive(Args, Debug)]
+pub struct RenderArgs {
+    /// Folder of bundled scenario scripts (*.rhai).
+    #[arg(default_value = "scenarios")]
+    pub scenarios: PathBuf,
+    /// Folder of rendered reports.
+    #[arg(default_value = "reports")]
+    pub reports: PathBuf,
+}
+
+/// Options of `fluids`.
+#[derive(Args, Debug)]
+pub struct FluidsArgs {
+    /// Print JSON instead of a table.
+    #[arg(long)]
+    pub json: bool,
+    /// Add (or replace) fluids from a YAML file of the same shape as
+    /// scenarios/fluids.yaml.
+    #[arg(long, value_name = "YAML")]
+    pub file: Option<PathBuf>,
+}
+
+/// Options of `patient`.
+#[derive(Args, Debug)]
+pub struct PatientArgs {
+    /// Patient description in YAML.
+    #[arg(long, value_name = "YAML", conflicts_with_all = ["sex", "age", "weight", "height", "na", "k", "glucose", "urea", "albumin", "hematocrit", "onset", "cause", "water_method"])]
+    pub file: Option<PathBuf>,
+    /// Sex: male or female.
+    #[arg(long, required_unless_present = "file")]
+    pub sex: Option<String>,
+    /// Age, years.
+    #[arg(long, required_unless_present = "file")]
+    pub age: Option<f64>,
+    /// Weight, kg.
+    #[arg(long, required_unless_present = "file")]
+    pub weight: Option<f64>,
+    /// Height, cm (needed by --water-method watson).
+    #[arg(long)]
+    pub height: Option<f64>,
+    /// Serum sodium, mmol/L.
+    #[arg(long)]
+    pub na: Option<f64>,
+    /// Serum potassium, mmol/L.
+    #[arg(long)]
+    pub k: Option<f64>,
+    /// Plasma glucose, mmol/L.
+    #[arg(long)]
+    pub glucose: Option<f64>,
+    /// Plasma urea, mmol/L.
+    #[arg(long)]
+    pub urea: Option<f64>,
+    /// Plasma albumin, g/L.
+    #[arg(long)]
+    pub albumin: Option<f64>,
+    /// Hematocrit, fraction (0.42) or percent (42).
+    #[arg(long)]
+    pub hematocrit: Option<f64>,
+    /// Onset: acute or chronic.
+    #[arg(long)]
+    pub onset: Option<String>,
+    /// Cause (see `tidewater patient --help` of the engine docs): none,
+    /// hypovolemic, inappropriate_antidiuresis, reset_osmostat,
+    /// low_solute_intake, primary_polydipsia, diuretic_induced,
+    /// insulin_deficiency.
+    #[arg(long)]
+    pub cause: Option<String>,
+    /// Total body water method: fraction or watson.
+    #[arg(long)]
+    pub water_method: Option<String>,
+    /// Print JSON instead of a table.
+    #[arg(long)]
+    pub json: bool,
+}

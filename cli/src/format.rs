@@ -1,0 +1,72 @@
+//! Deterministic number formatting for files: a fixed number of significant
+//! digits, plain decimal notation, no negative zero. The same value always
+//! gives the same text, so reports are byte-identical across runs.
+
+/// `x` with `digits` significant digits in plain decimal notation (at most
+/// 12 decimals). Non-finite values print as `NaN`, `inf` or `-inf`.
+pub fn sig(x: f64, digits: usize) -> String {
+    if !x.is_finite() {
+        return if x.is_nan() {
+            "NaN".into()
+        } else if x > 0.0 {
+            "inf".into()
+        } else {
+            "-inf".into()
+        };
+    }
+    if x == 0.0 {
+        return "0".into();
+    }
+    let magnitude = x.abs().log10().floor() as i64;
+    let decimals = (digits as i64 - 1 - magnitude).clamp(0, 12) as usize;
+    let text = format!("{x:.decimals$}");
+    let text = if text.contains('.') {
+        text.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        text
+    };
+    if text.trim_start_matches('-').chars().all(|c| c == '0') {
+        "0".into()
+    } else {
+        text
+    }
+}
+
+/// `x` rounded to `digits` significant digits, as a number (for JSON).
+pub fn round_sig(x: f64, digits: usize) -> f64 {
+    if !x.is_finite() || x == 0.0 {
+        return if x.is_finite() { 0.0 } else { x };
+    }
+    sig(x, digits).parse().unwrap_or(x)
+}
+
+/// Fixed decimals for tables and prose (`-0.0` prints as `0.0`).
+pub fn fixed(x: f64, decimals: usize) -> String {
+    let text = format!("{x:.decimals$}");
+    if text.starts_with('-') && text[1..].chars().all(|c| c == '0' || c == '.') {
+        text[1..].to_string()
+    } else {
+        text
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn significant_digits() {
+        assert_eq!(sig(118.04567, 6), "118.046");
+        assert_eq!(sig(0.000123456789, 4), "0.0001235");
+        assert_eq!(sig(1234567.0, 3), "1234567");
+        assert_eq!(sig(-0.00000123, 3), "-0.00000123");
+        // At most 12 decimals: smaller magnitudes print as zero.
+        assert_eq!(sig(-1e-13, 3), "0");
+        assert_eq!(sig(-1e-20, 3), "0");
+        assert_eq!(sig(2.5, 6), "2.5");
+        assert_eq!(sig(0.0, 6), "0");
+        assert_eq!(round_sig(1.23456789, 3), 1.23);
+        assert_eq!(fixed(-0.01, 1), "0.0");
+        assert_eq!(fixed(-0.06, 1), "-0.1");
+    }
+}

@@ -1,0 +1,82 @@
+//! `samples.csv`: one row per sample, units in the column names, numbers
+//! with fixed significant digits.
+
+use super::{write_file, Exporter, Report};
+use crate::format::sig;
+use anyhow::Result;
+use std::path::Path;
+
+/// The column names, in order (a contract: tests and users rely on them).
+pub const COLUMNS: [&str; 19] = [
+    "time_h",
+    "na_mmol_l",
+    "k_mmol_l",
+    "glucose_mmol_l",
+    "urea_mmol_l",
+    "albumin_g_l",
+    "osmolality_mosm_kg",
+    "tonicity_mosm_kg",
+    "cells_l",
+    "red_cells_l",
+    "interstitium_l",
+    "plasma_l",
+    "brain_volume_index",
+    "urine_ml_h",
+    "urine_osm_mosm_kg",
+    "urine_na_mmol_l",
+    "efwc_ml_h",
+    "hematocrit",
+    "na_change_24h_mmol_l",
+];
+
+/// Significant digits of every number.
+pub const DIGITS: usize = 7;
+
+/// The CSV writer.
+pub struct Samples;
+
+/// The CSV text of a run.
+pub fn render(report: &Report) -> String {
+    let traj = &report.input.trajectory;
+    let mut out = String::with_capacity(traj.samples.len() * 200);
+    out.push_str(&COLUMNS.join(","));
+    out.push('\n');
+    for (s, c24) in traj.samples.iter().zip(&traj.na_change_24h) {
+        let o = &s.obs;
+        let values = [
+            s.time_h,
+            o.na_mmol_l,
+            o.k_mmol_l,
+            o.glucose_mmol_l,
+            o.urea_mmol_l,
+            o.albumin_g_l,
+            o.osmolality_mosm_kg,
+            o.tonicity_mosm_kg,
+            o.cells_l,
+            o.red_cells_l,
+            o.interstitium_l,
+            o.plasma_l,
+            o.brain_volume_index,
+            o.urine_ml_h,
+            o.urine_osm_mosm_kg,
+            o.urine_na_mmol_l,
+            o.efwc_ml_h,
+            o.hematocrit,
+            *c24,
+        ];
+        let cells: Vec<String> = values.iter().map(|&v| sig(v, DIGITS)).collect();
+        out.push_str(&cells.join(","));
+        out.push('\n');
+    }
+    out
+}
+
+impl Exporter for Samples {
+    fn name(&self) -> &'static str {
+        "csv"
+    }
+
+    fn write(&self, report: &Report, dir: &Path) -> Result<()> {
+        write_file(&dir.join("samples.csv"), render(report).as_bytes())
+    }
+}

@@ -1,0 +1,237 @@
+//! The numbers a reader wants first, computed once from a [`RunInput`]:
+//! sodium at start, extremes and end, the largest rises, guideline flags,
+//! mass balance and solver statistics. Serialised as `summary.json`.
+
+use crate::format::round_sig;
+use crate::input::{Expectation, RunInput};
+use serde::Serialize;
+use tidewater::limits::{Direction, Severity};
+use tidewater::CAUTION;
+
+/// A value and when it occurred.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct AtTime {
+    /// The value, mmol/L.
+    pub mmol_l: f64,
+    /// When, h.
+    pub time_h: f64,
+}
+
+/// Serum sodium in brief.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SodiumSummary {
+    /// At the start.
+    pub start: AtTime,
+    /// Lowest.
+    pub min: AtTime,
+    /// Highest.
+    pub max: AtTime,
+    /// At the end.
+    pub end: AtTime,
+    /// Largest rise within any 24 h window (value, end of the window).
+    pub largest_rise_24h: AtTime,
+    /// Largest rise within any 48 h window.
+    pub largest_rise_48h: AtTime,
+}
+
+/// A guideline rule crossed.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct FlagSummary {
+    /// The rule's label.
+    pub rule: String,
+    /// "limit" or "caution".
+    pub severity: String,
+    /// "rise" or "fall".
+    pub direction: String,
+    /// Window of the rule, h.
+    pub window_h: f64,
+    /// Largest change the rule allows, mmol/L.
+    pub max_mmol_l: f64,
+    /// First time the rule was crossed, h.
+    pub time_h: f64,
+    /// Change at that time, mmol/L.
+    pub change_mmol_l: f64,
+    /// Largest change within any window of the rule, mmol/L.
+    pub worst_change_mmol_l: f64,
+    /// When the largest change was reached, h.
+    pub worst_time_h: f64,
+}
+
+/// Mass balance of one species.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct BalanceSummary {
+    /// Species.
+    pub species: String,
+    /// Unit of the amounts.
+    pub unit: String,
+    /// Content at the start.
+    pub start: f64,
+    /// Content at the end.
+    pub end: f64,
+    /// Cumulative intake.
+    pub intake: f64,
+    /// Cumulative output.
+    pub output: f64,
+    /// Largest relative residual of `content − start − intake + output`.
+    pub max_relative_residual: f64,
+}
+
+/// The guideline set in force.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct GuidelineSummary {
+    /// Identifier.
+    pub id: String,
+    /// Published source.
+    pub source: String,
+    /// Whether the high-risk rules apply.
+    pub high_risk: bool,
+    /// The rules in force, in words.
+    pub rules: Vec<String>,
+}
+
+/// Everything in `summary.json`.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Summary {
+    /// Scenario title.
+    pub title: String,
+    /// Scenario description.
+    pub description: String,
+    /// Where the scenario came from.
+    pub source: String,
+    /// The caution every report carries.
+    pub caution: String,
+    /// Length of the run, h.
+    pub duration_h: f64,
+    /// Number of samples.
+    pub samples: usize,
+    /// Serum sodium in brief.
+    pub sodium: SodiumSummary,
+    /// Guideline set.
+    pub guideline: GuidelineSummary,
+    /// Rules crossed.
+    pub flags: Vec<FlagSummary>,
+    /// Mass balance per species.
+    pub mass_balance: Vec<BalanceSummary>,
+    /// Solver statistics.
+    pub solver: tidewater::SolverStats,
+    /// Expectation results.
+    pub expectations: Vec<Expectation>,
+    /// Whether every expectation held.
+    pub all_expectations_hold: bool,
+    /// Messages logged by the run.
+    pub log: Vec<String>,
+}
+
+const DIGITS: usize = 6;
+
+fn at(mmol_l: f64, time_h: f64) -> AtTime {
+    AtTime {
+        mmol_l: round_sig(mmol_l, DIGITS),
+        time_h: round_sig(time_h, DIGITS),
+    }
+}
+
+fn severity_name(s: Severity) -> &'static str {
+    match s {
+        Severity::Caution => "caution",
+        Severity::Limit => "limit",
+    }
+}
+
+fn direction_name(d: Direction) -> &'static str {
+    match d {
+        Direction::Rise => "rise",
+        Direction::Fall => "fall",
+    }
+}
+
+/// Words for a rule: `rise at most 10 mmol/L per 24 h (first 24 h), limit`.
+pub fn describe_rule(rule: &tidewater::limits::Rule) -> String {
+    format!(
+        "{} at most {} mmol/L per {} h ({}), {}",
+        direction_name(rule.direction),
+        rule.max_mmol_l,
+        rule.window_h,
+        rule.label,
+        severity_name(rule.severity)
+    )
+}
+
+impl Summary {
+    /// Compute the summary of a run.
+    pub fn of(input: &RunInput) -> Summary {
+        let traj = &input.trajectory;
+        let first = &traj.samples[0];
+        let last = traj.last();
+        let (mut min, mut max) = (first, first);
+        for s in &traj.samples {
+            if s.obs.na_mmol_l < min.obs.na_mmol_l {
+                min = s;
+            }
+            if s.obs.na_mmol_l > max.obs.na_mmol_l {
+                max = s;
+            }
+        }
+        let (r24, t24) = traj.largest_rise(24.0);
+        let (r48, t48) = traj.largest_rise(48.0);
+        Summary {
+            title: input.title.clone(),
+            description: input.description.clone(),
+            source: input.source.clone(),
+            caution: CAUTION.to_string(),
+            duration_h: round_sig(last.time_h - first.time_h, DIGITS),
+            samples: traj.samples.len(),
+            sodium: SodiumSummary {
+                start: at(first.obs.na_mmol_l, first.time_h),
+                min: at(min.obs.na_mmol_l, min.time_h),
+                max: at(max.obs.na_mmol_l, max.time_h),
+                end: at(last.obs.na_mmol_l, last.time_h),
+                largest_rise_24h: at(r24, t24),
+                largest_rise_48h: at(r48, t48),
+            },
+            guideline: GuidelineSummary {
+                id: traj.limits.guideline.id.clone(),
+                source: traj.limits.guideline.source.clone(),
+                high_risk: traj.limits.high_risk,
+                rules: traj.limits.rules().iter().map(describe_rule).collect(),
+            },
+            flags: traj
+                .flags
+                .iter()
+                .map(|f| FlagSummary {
+                    rule: f.rule.label.clone(),
+                    severity: severity_name(f.rule.severity).into(),
+                    direction: direction_name(f.rule.direction).into(),
+                    window_h: f.rule.window_h,
+                    max_mmol_l: f.rule.max_mmol_l,
+                    time_h: round_sig(f.time_h, DIGITS),
+                    change_mmol_l: round_sig(f.change_mmol_l, DIGITS),
+                    worst_change_mmol_l: round_sig(f.worst_change_mmol_l, DIGITS),
+                    worst_time_h: round_sig(f.worst_time_h, DIGITS),
+                })
+                .collect(),
+            mass_balance: traj
+                .balance
+                .iter()
+                .map(|b| BalanceSummary {
+                    species: b.species.into(),
+                    unit: b.unit.into(),
+                    start: round_sig(b.start, DIGITS),
+                    end: round_sig(b.end, DIGITS),
+                    intake: round_sig(b.intake, DIGITS),
+                    output: round_sig(b.output, DIGITS),
+                    max_relative_residual: round_sig(b.max_relative_residual, 3),
+                })
+                .collect(),
+            solver: traj.stats,
+            expectations: input.expectations.clone(),
+            all_expectations_hold: input.all_expectations_hold(),
+            log: input.log.clone(),
+        }
+    }
+
+    /// Whether any rule of severity "limit" was crossed.
+    pub fn limit_crossed(&self) -> bool {
+        self.flags.iter().any(|f| f.severity == "limit")
+    }
+}

@@ -1,0 +1,363 @@
+//! End-to-end checks of the `tidewater` command: exit codes, the CSV column
+//! contract, atomic output, `fluids` and `patient`.
+
+use std::path::Path;
+use std::process::{Command, Output};
+
+fn tidewater(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_tidewater"))
+        .args(args)
+        .env("NO_COLOR", "1")
+        .output()
+        .expect("the tidewater binary runs")
+}
+
+fn text(bytes: &[u8]) -> String {
+    String::from_utf8_lossy(bytes).into_owned()
+}
+
+const COLUMNS: &str = "time_h,na_mmol_l,k_mmol_l,glucose_mmol_l,urea_mmol_l,albumin_g_l,osmolality_mosm_kg,tonicity_mosm_kg,cells_l,red_cells_l,interstitium_l,plasma_l,brain_volume_index,urine_ml_h,urine_osm_mosm_kg,urine_na_mmol_l,efwc_ml_h,hematocrit,na_change_24h_mmol_l";
+
+fn run_demo(out: &Path) -> Output {
+    tidewater(&["run", "--demo", "--out", out.to_str().unwrap()])
+}
+
+#[test]
+fn bad_option_exits_with_two() {
+    let out = tidewater(&["run", "--demo", "--no-such-option"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(text(&out.stderr).contains("--no-such-option"));
+    let out = tidewater(&["fluidz"]);
+    assert_eq!(out.status.code(), Some(2));
+    // clap suggests the closest command.
+    assert!(
+        text(&out.stderr).contains("fluids"),
+        "{}",
+        text(&out.stderr)
+    );
+    // run needs a script or --demo.
+    assert_eq!(tidewater(&["run"]).status.code(), Some(2));
+}
+
+#[test]
+fn help_documents_exit_codes() {
+    let out = tidewater(&["--help"]);
+    assert_eq!(out.status.code(), Some(0));
+    let help = text(&out.stdout);
+    assert!(
+        help.contains("Exit codes:") && help.contains("NO_COLOR"),
+        "{help}"
+    );
+    assert!(help.contains("render-reports") && help.contains("completions"));
+}
+
+#[test]
+fn demo_report_has_the_column_contract() {
+    let root = tempfile::tempdir().unwrap();
+    let dir = root.path().join("demo");
+    let out = run_demo(&dir);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    assert!(text(&out.stdout).trim().ends_with("report.html"));
+    for f in [
+        "samples.csv",
+        "summary.json",
+        "report.html",
+        "sodium.svg",
+        "volumes.svg",
+        "urine.svg",
+        "intake_output.svg",
+    ] {
+        assert!(dir.join(f).is_file(), "{f} missing");
+    }
+    let csv = std::fs::read_to_string(dir.join("samples.csv")).unwrap();
+    let mut lines = csv.lines();
+    assert_eq!(lines.next(), Some(COLUMNS));
+    let n_cols = COLUMNS.split(',').count();
+    let rows: Vec<Vec<f64>> = lines
+        .map(|l| {
+            let cells: Vec<f64> = l
+                .split(',')
+                .map(|c| {
+                    c.parse::<f64>()
+                        .unwrap_or_else(|_| panic!("not a number: {c}"))
+                })
+                .collect();
+            assert_eq!(cells.len(), n_cols, "{l}");
+            assert!(cells.iter().all(|x| x.is_finite()), "{l}");
+            cells
+        })
+        .collect();
+    // One row per sample: 48 h sampled every 5 min gives 48 * 12 + 1 rows,
+    // the number summary.json reports.
+    let summary: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.join("summary.json")).unwrap()).unwrap();
+    assert_eq!(rows.len(), 48 * 12 + 1);
+    assert_eq!(summary["samples"].as_u64(), Some(rows.len() as u64));
+    // Times increase; the first row is the patient's stated sodium.
+    assert!(rows.windows(2).all(|w| w[1][0] > w[0][0]));
+    assert!((rows[0][1] - 118.0).abs() < 1e-6);
+    assert_eq!(rows[0][18], 0.0);
+    // summary.json agrees with the CSV.
+    let end_na = summary["sodium"]["end"]["mmol_l"].as_f64().unwrap();
+    assert!((end_na - rows.last().unwrap()[1]).abs() < 1e-3);
+    assert!(summary["caution"]
+        .as_str()
+        .unwrap()
+        .contains("not a medical device"));
+    assert_eq!(summary["guideline"]["id"], "europe-2014");
+    // Hematocrit is a fraction; serum osmolality at 118 mmol/L sodium with
+    // normal glucose and urea is about 2 * 118 + 5 + 5 (the textbook
+    // estimate 2 Na + glucose + urea, common practice).
+    assert!(rows[0][17] > 0.2 && rows[0][17] < 0.6);
+    assert!(
+        (rows[0][6] - (2.0 * 118.0 + 10.0)).abs() < 8.0,
+        "{}",
+        rows[0][6]
+    );
+}
+
+#[test]
+fn reports_are_byte_identical_across_runs() {
+    let root = tempfile::tempdir().unwrap();
+    let (a, b) = (root.path().join("a"), root.path().join("b"));
+    assert_eq!(run_demo(&a).status.code(), Some(0));
+    assert_eq!(run_demo(&b).status.code(), Some(0));
+    for f in ["samples.csv", "summary.json", "report.html", "sodium.svg"] {
+        let (x, y) = (
+            std::fs::read(a.join(f)).unwrap(),
+            std::fs::read(b.join(f)).unwrap(),
+        );
+        assert!(x == y, "{f} differs between runs");
+    }
+}
+
+#[test]
+fn failed_run_leaves_no_output_folder() {
+    let root = tempfile::tempdir().unwrap();
+    let dir = root.path().join("never");
+    let script = root.path().join("missing.rhai");
+    let out = tidewater(&[
+        "run",
+        script.to_str().unwrap(),
+        "--out",
+        dir.to_str().unwrap(),
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        text(&out.stderr).contains("missing.rhai"),
+        "{}",
+        text(&out.stderr)
+    );
+    assert!(!dir.exists());
+    // No staging folder is left behind either.
+    assert_eq!(std::fs::read_dir(root.path()).unwrap().count(), 0);
+
+    // An output path that is a file: refused, the file untouched.
+    let file = root.path().join("taken");
+    std::fs::write(&file, "keep me").unwrap();
+    let out = run_demo(&file);
+    assert_eq!(out.status.code(), Some(2));
+    assert_eq!(std::fs::read_to_string(&file).unwrap(), "keep me");
+    assert_eq!(std::fs::read_dir(root.path()).unwrap().count(), 1);
+}
+
+#[test]
+fn rerun_replaces_the_folder_whole() {
+    let root = tempfile::tempdir().unwrap();
+    let dir = root.path().join("demo");
+    std::fs::create_dir(&dir).unwrap();
+    std::fs::write(dir.join("stale.txt"), "from an older run").unwrap();
+    assert_eq!(run_demo(&dir).status.code(), Some(0));
+    assert!(!dir.join("stale.txt").exists());
+    assert!(dir.join("samples.csv").exists());
+    assert_eq!(std::fs::read_dir(root.path()).unwrap().count(), 1);
+}
+
+#[test]
+fn fluids_table_and_json() {
+    let out = tidewater(&["fluids"]);
+    assert_eq!(out.status.code(), Some(0));
+    let table = text(&out.stdout);
+    let line = table
+        .lines()
+        .find(|l| l.starts_with("saline_3 "))
+        .expect("saline_3 listed");
+    // 3 % saline: 30 g/L NaCl / 58.44 g/mol = 513 mmol/L (common practice).
+    assert!(line.contains(" 513 "), "{line}");
+    let out = tidewater(&["fluids", "--json"]);
+    assert_eq!(out.status.code(), Some(0));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let list = v["fluids"].as_array().unwrap();
+    let normal = list.iter().find(|f| f["id"] == "saline_0_9").unwrap();
+    // 0.9 % saline: 154 mmol/L each of Na and Cl, osmolarity 308 (common practice).
+    assert_eq!(normal["na"].as_f64(), Some(154.0));
+    assert_eq!(normal["osmolarity_mosm_l"].as_f64(), Some(308.0));
+}
+
+#[test]
+fn fluids_file_errors_name_file_and_line() {
+    let root = tempfile::tempdir().unwrap();
+    let path = root.path().join("mine.yaml");
+    std::fs::write(
+        &path,
+        "fluids:\n  - id: mine\n    name: Mine\n    kind: given\n    sodium: 100\n",
+    )
+    .unwrap();
+    let out = tidewater(&["fluids", "--file", path.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(2));
+    let err = text(&out.stderr);
+    assert!(
+        err.contains("mine.yaml:5") && err.contains("sodium"),
+        "{err}"
+    );
+    assert!(out.stdout.is_empty());
+}
+
+fn patient_json(args: &[&str]) -> serde_json::Value {
+    let mut all = vec!["patient", "--json"];
+    all.extend_from_slice(args);
+    let out = tidewater(&all);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    serde_json::from_slice(&out.stdout).unwrap()
+}
+
+#[test]
+fn patient_volumes_follow_published_rules() {
+    // Total body water 0.6 x weight for a young man (common practice).
+    let v = patient_json(&["--sex", "male", "--age", "40", "--weight", "70"]);
+    let tbw = v["volumes_l"]["total_water"].as_f64().unwrap();
+    assert!((tbw - 42.0).abs() < 1e-6, "{tbw}");
+    let parts: f64 = [
+        "tissue_cells",
+        "red_cells",
+        "brain_cells",
+        "interstitium",
+        "plasma",
+    ]
+    .iter()
+    .map(|k| v["volumes_l"][k].as_f64().unwrap())
+    .sum();
+    assert!((parts - tbw).abs() < 1e-4, "{parts} vs {tbw}");
+    // Extracellular water about a third of total body water (common practice).
+    let ecf = v["volumes_l"]["interstitium"].as_f64().unwrap()
+        + v["volumes_l"]["plasma"].as_f64().unwrap();
+    assert!(ecf / tbw > 0.25 && ecf / tbw < 0.42, "{}", ecf / tbw);
+
+    // Watson et al. 1980, men: TBW = 2.447 - 0.09516 age + 0.1074 height + 0.3362 weight.
+    let v = patient_json(&[
+        "--sex",
+        "male",
+        "--age",
+        "40",
+        "--weight",
+        "70",
+        "--height",
+        "175",
+        "--water-method",
+        "watson",
+    ]);
+    let expected = 2.447 - 0.09516 * 40.0 + 0.1074 * 175.0 + 0.3362 * 70.0;
+    let tbw = v["volumes_l"]["total_water"].as_f64().unwrap();
+    assert!((tbw - expected).abs() < 1e-3, "{tbw} vs {expected}");
+}
+
+#[test]
+fn patient_table_from_yaml_and_bad_yaml() {
+    let root = tempfile::tempdir().unwrap();
+    let good = root.path().join("p.yaml");
+    std::fs::write(
+        &good,
+        "sex: female\nage_years: 70\nweight_kg: 50\nna: 121\n",
+    )
+    .unwrap();
+    let out = tidewater(&["patient", "--file", good.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let table = text(&out.stdout);
+    assert!(
+        table.contains("Serum sodium") && table.contains("121.0 mmol/L"),
+        "{table}"
+    );
+    // Elderly woman: 0.45 x weight (common practice rule of thumb) = 22.5 L.
+    assert!(table.contains("22.5 L"), "{table}");
+
+    let bad = root.path().join("bad.yaml");
+    std::fs::write(
+        &bad,
+        "sex: female\nage_years: 70\nweight_kg: 50\nsodium: 121\n",
+    )
+    .unwrap();
+    let out = tidewater(&["patient", "--file", bad.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(2));
+    let err = text(&out.stderr);
+    assert!(
+        err.contains("bad.yaml:4") && err.contains("sodium"),
+        "{err}"
+    );
+
+    let out = tidewater(&[
+        "patient", "--sex", "female", "--age", "70", "--weight", "-5",
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        text(&out.stderr).contains("weight_kg"),
+        "{}",
+        text(&out.stderr)
+    );
+}
+
+#[test]
+fn completions_are_generated() {
+    for shell in ["bash", "zsh", "fish"] {
+        let out = tidewater(&["completions", shell]);
+        assert_eq!(out.status.code(), Some(0));
+        let script = text(&out.stdout);
+        assert!(
+            script.contains("tidewater") && script.contains("render-reports"),
+            "{shell}"
+        );
+    }
+}
+
+#[test]
+fn strict_turns_a_crossed_limit_into_exit_one() {
+    // The built-in case overshoots: its rise in the first 24 h exceeds the
+    // 10 mmol/L limit of the European guideline (Spasovski et al. 2014).
+    let root = tempfile::tempdir().unwrap();
+    let dir = root.path().join("strict");
+    let out = tidewater(&["run", "--demo", "--strict", "--out", dir.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(1), "{}", text(&out.stderr));
+    // The report is still written: the run itself succeeded.
+    assert!(dir.join("report.html").is_file());
+    let summary: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.join("summary.json")).unwrap()).unwrap();
+    let rise = summary["sodium"]["largest_rise_24h"]["mmol_l"]
+        .as_f64()
+        .unwrap();
+    assert!(rise > 10.0, "{rise}");
+    assert_eq!(summary["flags"][0]["severity"], "limit");
+    assert_eq!(summary["flags"][0]["max_mmol_l"].as_f64(), Some(10.0));
+    let stderr = text(&out.stderr);
+    assert!(
+        stderr.contains("Caution:") && stderr.contains("flag (limit)"),
+        "{stderr}"
+    );
+    // Without --strict the same run exits 0.
+    let out = tidewater(&["run", "--demo", "--quiet", "--out", dir.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(0));
+    assert!(
+        out.stderr.is_empty(),
+        "--quiet printed: {}",
+        text(&out.stderr)
+    );
+}
+
+#[test]
+fn no_color_keeps_escapes_out() {
+    let out = tidewater(&["fluids", "--file", "/no/such/file.yaml"]);
+    assert_eq!(out.status.code(), Some(2));
+    let err = text(&out.stderr);
+    assert!(
+        err.contains("/no/such/file.yaml") && !err.contains('\u{1b}'),
+        "{err}"
+    );
+}

@@ -158,15 +158,32 @@ pub fn demo_input() -> Result<RunInput> {
     )
 }
 
-/// Load and run a scenario script into a run input. The only place that
-/// knows about scripts: wire it to the scenario runtime as
-/// `Scenario::load(path)?` then `scenario.run()?`, and pass title,
-/// description, `scenario.plan()`, the trajectory, the expectation results
-/// and the log to [`RunInput::assemble`].
+/// Load and run a scenario script into a run input: the only place that
+/// knows about scripts. Script errors render as `file:line:col`, the
+/// source line and a caret.
 pub fn load_script(path: &Path) -> Result<RunInput> {
-    anyhow::bail!(
-        "{}: scenario scripts are not available in this build (try `tidewater run --demo`)",
-        path.display()
+    let scenario = tidewater::scenario::Scenario::load(path).map_err(|e| anyhow::anyhow!("{e}"))?;
+    let run = scenario.run().map_err(|e| anyhow::anyhow!("{e}"))?;
+    let stem = path.file_stem().unwrap_or_default().to_string_lossy().to_string();
+    RunInput::assemble(
+        Heading {
+            name: slug(&stem),
+            title: scenario.title().into(),
+            description: scenario.description().into(),
+            source: path.display().to_string(),
+        },
+        scenario.plan(),
+        run.trajectory,
+        run.expectations
+            .into_iter()
+            .map(|e| Expectation {
+                line: e.line,
+                description: e.description,
+                passed: e.passed,
+                detail: e.detail,
+            })
+            .collect(),
+        run.log,
     )
 }
 

@@ -1,0 +1,282 @@
+//! `tidewater sweep` and `tidewater merge`: run a parameter sweep over a
+//! base scenario (in parallel, resumable, shardable), and join shards.
+//! Presentation of the summary (tables, fan chart, sensitivity chart) lives
+//! here; the sweep machinery is `tidewater::sweep`.
+
+use anyhow::{bail, Context, Result};
+use clap::Args;
+use plotters::prelude::*;
+use std::path::{Path, PathBuf};
+use tidewater::scenario::Scenario;
+use tidewater::sweep::{self, MemberRunner, Shard, Summary, SweepSpec};
+use tidewater::Trajectory;
+
+/// Options of `tidewater sweep`.
+#[derive(Args, Debug)]
+pub struct SweepArgs {
+    /// Sweep specification (YAML).
+    pub spec: PathBuf,
+    /// Result file (CSV, one row per member; resumed if it exists).
+    #[arg(long)]
+    pub out: Option<PathBuf>,
+    /// Run only shard K of N (1-based, e.g. 2/8). Inside a Slurm array job
+    /// the shard is taken from SLURM_ARRAY_TASK_ID and SLURM_ARRAY_TASK_COUNT
+    /// when this option is absent.
+    #[arg(long)]
+    pub shard: Option<String>,
+    /// Worker threads (default: all cores).
+    #[arg(long)]
+    pub threads: Option<usize>,
+    /// Write the summary (JSON and SVG charts) next to the result file.
+    #[arg(long, default_value_t = true, action = clap::ArgAction::Set)]
+    pub summary: bool,
+}
+
+/// Options of `tidewater merge`.
+#[derive(Args, Debug)]
+pub struct MergeArgs {
+    /// Shard result files.
+    #[arg(required = true)]
+    pub inputs: Vec<PathBuf>,
+    /// Merged result file.
+    #[arg(long)]
+    pub out: PathBuf,
+    /// The sweep spec, to write the summary of the merged result.
+    #[arg(long)]
+    pub spec: Option<PathBuf>,
+}
+
+struct ScenarioRunner {
+    scenario: Scenario,
+}
+
+impl MemberRunner for ScenarioRunner {
+    fn run(&mut self, overrides: &[(String, f64)]) -> std::result::Result<Trajectory, String> {
+        let mut plan = self.scenario.plan().clone();
+        sweep::apply_overrides(&mut plan, overrides)?;
+        self.scenario
+            .run_with_plan(plan)
+            .map(|r| r.trajectory)
+            .map_err(|e| e.to_string())
+    }
+}
+
+fn shard_from(args: &SweepArgs) -> Result<Shard> {
+    if let Some(s) = &args.shard {
+        return Ok(Shard::parse(s)?);
+    }
+    match (
+        std::env::var("SLURM_ARRAY_TASK_ID"),
+        std::env::var("SLURM_ARRAY_TASK_COUNT"),
+    ) {
+        (Ok(id), Ok(count)) => {
+            // Array indices may start at 0 or 1: use the minimum if given.
+            let min: usize = std::env::var("SLURM_ARRAY_TASK_MIN")
+                .ok()
+                .and_then(|m| m.parse().ok())
+                .unwrap_or(1);
+            let id: usize = id.parse().context("SLURM_ARRAY_TASK_ID is not a number")?;
+            let count: usize = count.parse().context("SLURM_ARRAY_TASK_COUNT is not a number")?;
+            Ok(Shard::parse(&format!("{}/{}", id + 1 - min, count))?)
+        }
+        _ => Ok(Shard::ALL),
+    }
+}
+
+/// Run `tidewater sweep`.
+pub fn sweep_command(args: SweepArgs) -> Result<()> {
+    let text = std::fs::read_to_string(&args.spec)
+        .with_context(|| format!("cannot read {}", args.spec.display()))?;
+    let spec = SweepSpec::from_yaml(&text, &args.spec.display().to_string())?;
+    let base_dir = args.spec.parent().unwrap_or(Path::new("."));
+    let script = base_dir.join(&spec.scenario);
+    // Load once here to report script errors before any work starts.
+    let scenario = Scenario::load(&script).map_err(|e| anyhow::anyhow!("{e}"))?;
+    let duration_h = scenario.plan().duration_h;
+    let shard = shard_from(&args)?;
+    let out = args.out.clone().unwrap_or_else(|| {
+        let stem = args.spec.file_stem().and_then(|s| s.to_str()).unwrap_or("sweep");
+        if shard.count > 1 {
+            PathBuf::from(format!("runs/{stem}/shard-{}-of-{}.csv", shard.index + 1, shard.count))
+        } else {
+            PathBuf::from(format!("runs/{stem}/results.csv"))
+        }
+    });
+    if let Some(dir) = out.parent() {
+        if !dir.as_os_str().is_empty() {
+            std::fs::create_dir_all(dir).with_context(|| format!("cannot create {}", dir.display()))?;
+        }
+    }
+    let threads = args
+        .threads
+        .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()));
+    let total = (0..spec.member_count()).filter(|i| shard.contains(*i)).count();
+    eprintln!(
+        "sweep: {} members ({} in this shard) of {} on {threads} threads -> {}",
+        spec.member_count(),
+        total,
+        script.display(),
+        out.display()
+    );
+    let bar = crate::progress::bar(total as u64, "members");
+    let progress = crate::progress::SweepProgress(&bar);
+    let start = std::time::Instant::now();
+    let ran = sweep::run_sweep(
+        &spec,
+        duration_h,
+        &out,
+        shard,
+        threads,
+        || {
+            Scenario::load(&script)
+                .map(|scenario| ScenarioRunner { scenario })
+                .map_err(|e| e.to_string())
+        },
+        &progress,
+    )?;
+    bar.finish_and_clear();
+    let secs = start.elapsed().as_secs_f64();
+    eprintln!(
+        "sweep: ran {ran} members in {secs:.1} s ({:.0} members/s)",
+        ran as f64 / secs.max(1e-9)
+    );
+    if args.summary && shard.count == 1 {
+        write_summary(&spec, &out)?;
+    }
+    Ok(())
+}
+
+/// Run `tidewater merge`.
+pub fn merge_command(args: MergeArgs) -> Result<()> {
+    let inputs: Vec<&Path> = args.inputs.iter().map(|p| p.as_path()).collect();
+    let n = sweep::merge(&inputs, &args.out)?;
+    eprintln!("merge: {n} members -> {}", args.out.display());
+    if let Some(spec_path) = &args.spec {
+        let text = std::fs::read_to_string(spec_path)
+            .with_context(|| format!("cannot read {}", spec_path.display()))?;
+        let spec = SweepSpec::from_yaml(&text, &spec_path.display().to_string())?;
+        write_summary(&spec, &args.out)?;
+    }
+    Ok(())
+}
+
+fn write_summary(spec: &SweepSpec, results: &Path) -> Result<()> {
+    let summary = Summary::from_file(spec, results)?;
+    let dir = results.parent().unwrap_or(Path::new("."));
+    let json = serde_json::json!({
+        "members": summary.members,
+        "failed": summary.failed,
+        "probability_limit_crossed": summary.p_limit,
+        "probability_caution_crossed": summary.p_caution,
+        "sodium_percentiles": summary.band_times_h.iter().zip(summary.bands.iter()).map(|(t, b)| serde_json::json!({
+            "time_h": t, "p5": b[0], "p25": b[1], "p50": b[2], "p75": b[3], "p95": b[4]
+        })).collect::<Vec<_>>(),
+        "sensitivity_largest_rise_24h": summary.sensitivity.iter().map(|(n, r)| serde_json::json!({"parameter": n, "rank_correlation": r})).collect::<Vec<_>>(),
+        "mass_balance": { "members_checked": summary.balance_checked, "max_relative_residual": summary.max_balance_residual },
+        "caution": tidewater::CAUTION,
+    });
+    let path = dir.join("summary.json");
+    std::fs::write(&path, serde_json::to_string_pretty(&json)? + "\n")
+        .with_context(|| format!("cannot write {}", path.display()))?;
+    fan_chart(&summary, &dir.join("sodium_bands.svg"))?;
+    sensitivity_chart(&summary, &dir.join("sensitivity.svg"))?;
+    println!("members\tfailed\tP(limit crossed)\tP(caution crossed)");
+    println!(
+        "{}\t{}\t{:.3}\t{:.3}",
+        summary.members, summary.failed, summary.p_limit, summary.p_caution
+    );
+    println!("parameter\trank correlation with the largest 24 h rise");
+    for (n, r) in &summary.sensitivity {
+        println!("{n}\t{r:+.3}");
+    }
+    eprintln!("summary: {} (and charts beside it)", path.display());
+    Ok(())
+}
+
+fn fan_chart(summary: &Summary, path: &Path) -> Result<()> {
+    if summary.band_times_h.is_empty() {
+        return Ok(());
+    }
+    let root = SVGBackend::new(path, (820, 460)).into_drawing_area();
+    root.fill(&WHITE)?;
+    let t_max = summary.band_times_h.last().copied().unwrap_or(1.0).max(1.0);
+    let lo = summary.bands.iter().map(|b| b[0]).fold(f64::INFINITY, f64::min).floor() - 1.0;
+    let hi = summary.bands.iter().map(|b| b[4]).fold(f64::NEG_INFINITY, f64::max).ceil() + 1.0;
+    let mut chart = ChartBuilder::on(&root)
+        .caption("Serum sodium across the sweep (5-95 and 25-75 % bands, median)", ("sans-serif", 18))
+        .margin(14)
+        .x_label_area_size(40)
+        .y_label_area_size(56)
+        .build_cartesian_2d(0.0..t_max * 1.001, lo..hi)?;
+    chart
+        .configure_mesh()
+        .x_desc("time (h)")
+        .y_desc("serum sodium (mmol/L)")
+        .x_label_formatter(&|x| format!("{x:.0}"))
+        .y_label_formatter(&|y| format!("{y:.0}"))
+        .draw()?;
+    let band = |i: usize, j: usize| -> Vec<(f64, f64)> {
+        let mut pts: Vec<(f64, f64)> = summary.band_times_h.iter().zip(summary.bands.iter()).map(|(t, b)| (*t, b[i])).collect();
+        pts.extend(summary.band_times_h.iter().zip(summary.bands.iter()).rev().map(|(t, b)| (*t, b[j])));
+        pts
+    };
+    let outer = RGBColor(158, 202, 225);
+    let inner = RGBColor(66, 146, 198);
+    chart
+        .draw_series(std::iter::once(Polygon::new(band(0, 4), outer.mix(0.5).filled())))?
+        .label("5-95 %")
+        .legend(move |(x, y)| Rectangle::new([(x, y - 5), (x + 14, y + 5)], outer.filled()));
+    chart
+        .draw_series(std::iter::once(Polygon::new(band(1, 3), inner.mix(0.6).filled())))?
+        .label("25-75 %")
+        .legend(move |(x, y)| Rectangle::new([(x, y - 5), (x + 14, y + 5)], inner.filled()));
+    chart
+        .draw_series(LineSeries::new(
+            summary.band_times_h.iter().zip(summary.bands.iter()).map(|(t, b)| (*t, b[2])),
+            ShapeStyle::from(&RGBColor(8, 48, 107)).stroke_width(2),
+        ))?
+        .label("median")
+        .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 14, y)], RGBColor(8, 48, 107)));
+    chart
+        .configure_series_labels()
+        .border_style(BLACK.mix(0.3))
+        .background_style(WHITE.mix(0.9))
+        .position(SeriesLabelPosition::LowerRight)
+        .draw()?;
+    root.present()?;
+    Ok(())
+}
+
+fn sensitivity_chart(summary: &Summary, path: &Path) -> Result<()> {
+    if summary.sensitivity.is_empty() {
+        bail!("no parameters to rank");
+    }
+    let n = summary.sensitivity.len();
+    let root = SVGBackend::new(path, (820, (120 + 34 * n) as u32)).into_drawing_area();
+    root.fill(&WHITE)?;
+    let mut chart = ChartBuilder::on(&root)
+        .caption("What drives the largest 24 h rise (rank correlation)", ("sans-serif", 18))
+        .margin(14)
+        .x_label_area_size(40)
+        .y_label_area_size(230)
+        .build_cartesian_2d(-1.0..1.0, (0..n).into_segmented())?;
+    let names: Vec<String> = summary.sensitivity.iter().map(|(n, _)| n.clone()).collect();
+    chart
+        .configure_mesh()
+        .x_desc("rank correlation with the largest 24 h rise")
+        .y_label_formatter(&|v| match v {
+            SegmentValue::CenterOf(i) => names.get(*i).cloned().unwrap_or_default(),
+            _ => String::new(),
+        })
+        .x_label_formatter(&|x| format!("{x:+.1}"))
+        .draw()?;
+    chart.draw_series(summary.sensitivity.iter().enumerate().map(|(i, (_, r))| {
+        let color = if *r >= 0.0 { RGBColor(203, 24, 29) } else { RGBColor(33, 113, 181) };
+        Rectangle::new(
+            [(0.0, SegmentValue::Exact(i)), (*r, SegmentValue::Exact(i + 1))],
+            color.mix(0.8).filled(),
+        )
+    }))?;
+    root.present()?;
+    Ok(())
+}

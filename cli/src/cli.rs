@@ -80,6 +80,26 @@ pub enum Command {
     },
     /// List every model parameter with unit, default and source.
     Params,
+    /// Run a parameter sweep over a base scenario: members in parallel,
+    /// streamed to a CSV file that resumes if interrupted; summary (JSON),
+    /// percentile fan chart and sensitivity chart beside it.
+    #[command(
+        after_help = "Examples:\n  tidewater sweep scenarios/sweeps/bolus_uncertainty.yaml\n  tidewater sweep spec.yaml --out runs/s/results.csv --threads 2\n  tidewater sweep spec.yaml --shard 2/8 --out runs/s/shard-2.csv\n\nInside a Slurm array job the shard comes from SLURM_ARRAY_TASK_ID and\nSLURM_ARRAY_TASK_COUNT (see scenarios/sweeps/slurm_array.sh)."
+    )]
+    Sweep(crate::sweep_command::SweepArgs),
+    /// Join the result files of sweep shards (the same file an unsharded
+    /// run writes), optionally with its summary.
+    #[command(
+        after_help = "Example:\n  tidewater merge runs/s/shard-*.csv --out runs/s/results.csv --spec spec.yaml"
+    )]
+    Merge(crate::sweep_command::MergeArgs),
+    /// Print the model dump of a scenario's plan as JSON: every parameter,
+    /// the calibration, the initial state and the input segments (for an
+    /// independent implementation of docs/equations.md).
+    Dump {
+        /// Scenario script.
+        script: std::path::PathBuf,
+    },
     /// Print a shell completion script to stdout.
     #[command(
         after_help = "Examples:\n  tidewater completions bash > ~/.local/share/bash-completion/completions/tidewater\n  tidewater completions zsh > ~/.zfunc/_tidewater\n  tidewater completions fish > ~/.config/fish/completions/tidewater.fish"

@@ -164,7 +164,11 @@ pub fn demo_input() -> Result<RunInput> {
 pub fn load_script(path: &Path) -> Result<RunInput> {
     let scenario = tidewater::scenario::Scenario::load(path).map_err(|e| anyhow::anyhow!("{e}"))?;
     let run = scenario.run().map_err(|e| anyhow::anyhow!("{e}"))?;
-    let stem = path.file_stem().unwrap_or_default().to_string_lossy().to_string();
+    let stem = path
+        .file_stem()
+        .unwrap_or_default()
+        .to_string_lossy()
+        .to_string();
     RunInput::assemble(
         Heading {
             name: slug(&stem),

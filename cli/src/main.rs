@@ -17,6 +17,7 @@ mod options;
 mod progress;
 mod report;
 mod summary;
+mod sweep_command;
 
 use anyhow::Result;
 use clap::{CommandFactory, FromArgMatches};
@@ -70,6 +71,15 @@ fn dispatch(cli: Cli, style: Style) -> Result<Outcome> {
         Command::Bench { runs } => commands::bench(runs as usize, style).map(|_| Outcome::Ok),
         Command::Params => {
             commands::params();
+            Ok(Outcome::Ok)
+        }
+        Command::Sweep(args) => sweep_command::sweep_command(args, style).map(|_| Outcome::Ok),
+        Command::Merge(args) => sweep_command::merge_command(args).map(|_| Outcome::Ok),
+        Command::Dump { script } => {
+            let scenario =
+                tidewater::scenario::Scenario::load(&script).map_err(|e| anyhow::anyhow!("{e}"))?;
+            let sim = tidewater::Simulation::new(scenario.plan().clone())?;
+            println!("{}", tidewater::dump::to_json(&sim));
             Ok(Outcome::Ok)
         }
         Command::Completions { shell } => {

@@ -46,15 +46,37 @@ pub struct MergeArgs {
     pub spec: Option<PathBuf>,
 }
 
+/// Progress of a sweep on a bar (shared between worker threads).
+struct BarProgress(indicatif::ProgressBar);
+
+impl sweep::Progress for BarProgress {
+    fn advance(&self, done: usize) {
+        self.0.inc(done as u64);
+    }
+}
+
 struct ScenarioRunner {
+    path: PathBuf,
     scenario: Scenario,
 }
 
 impl MemberRunner for ScenarioRunner {
     fn run(&mut self, overrides: &[(String, f64)]) -> std::result::Result<Trajectory, String> {
-        let mut plan = self.scenario.plan().clone();
+        let settings: Vec<(String, f64)> = overrides
+            .iter()
+            .filter_map(|(n, v)| n.strip_prefix("script.").map(|s| (s.to_string(), *v)))
+            .collect();
+        let reloaded;
+        let scenario = if settings.is_empty() {
+            &self.scenario
+        } else {
+            reloaded =
+                Scenario::load_with_settings(&self.path, &settings).map_err(|e| e.to_string())?;
+            &reloaded
+        };
+        let mut plan = scenario.plan().clone();
         sweep::apply_overrides(&mut plan, overrides)?;
-        self.scenario
+        scenario
             .run_with_plan(plan)
             .map(|r| r.trajectory)
             .map_err(|e| e.to_string())
@@ -76,7 +98,9 @@ fn shard_from(args: &SweepArgs) -> Result<Shard> {
                 .and_then(|m| m.parse().ok())
                 .unwrap_or(1);
             let id: usize = id.parse().context("SLURM_ARRAY_TASK_ID is not a number")?;
-            let count: usize = count.parse().context("SLURM_ARRAY_TASK_COUNT is not a number")?;
+            let count: usize = count
+                .parse()
+                .context("SLURM_ARRAY_TASK_COUNT is not a number")?;
             Ok(Shard::parse(&format!("{}/{}", id + 1 - min, count))?)
         }
         _ => Ok(Shard::ALL),
@@ -84,7 +108,7 @@ fn shard_from(args: &SweepArgs) -> Result<Shard> {
 }
 
 /// Run `tidewater sweep`.
-pub fn sweep_command(args: SweepArgs) -> Result<()> {
+pub fn sweep_command(args: SweepArgs, style: crate::options::Style) -> Result<()> {
     let text = std::fs::read_to_string(&args.spec)
         .with_context(|| format!("cannot read {}", args.spec.display()))?;
     let spec = SweepSpec::from_yaml(&text, &args.spec.display().to_string())?;
@@ -95,22 +119,33 @@ pub fn sweep_command(args: SweepArgs) -> Result<()> {
     let duration_h = scenario.plan().duration_h;
     let shard = shard_from(&args)?;
     let out = args.out.clone().unwrap_or_else(|| {
-        let stem = args.spec.file_stem().and_then(|s| s.to_str()).unwrap_or("sweep");
+        let stem = args
+            .spec
+            .file_stem()
+            .and_then(|s| s.to_str())
+            .unwrap_or("sweep");
         if shard.count > 1 {
-            PathBuf::from(format!("runs/{stem}/shard-{}-of-{}.csv", shard.index + 1, shard.count))
+            PathBuf::from(format!(
+                "runs/{stem}/shard-{}-of-{}.csv",
+                shard.index + 1,
+                shard.count
+            ))
         } else {
             PathBuf::from(format!("runs/{stem}/results.csv"))
         }
     });
     if let Some(dir) = out.parent() {
         if !dir.as_os_str().is_empty() {
-            std::fs::create_dir_all(dir).with_context(|| format!("cannot create {}", dir.display()))?;
+            std::fs::create_dir_all(dir)
+                .with_context(|| format!("cannot create {}", dir.display()))?;
         }
     }
     let threads = args
         .threads
         .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()));
-    let total = (0..spec.member_count()).filter(|i| shard.contains(*i)).count();
+    let total = (0..spec.member_count())
+        .filter(|i| shard.contains(*i))
+        .count();
     eprintln!(
         "sweep: {} members ({} in this shard) of {} on {threads} threads -> {}",
         spec.member_count(),
@@ -118,8 +153,16 @@ pub fn sweep_command(args: SweepArgs) -> Result<()> {
         script.display(),
         out.display()
     );
-    let bar = crate::progress::bar(total as u64, "members");
-    let progress = crate::progress::SweepProgress(&bar);
+    let bar = crate::progress::bar(total as u64, "members", style);
+    if let Some(s) = indicatif::ProgressStyle::with_template(
+        "{msg:>12} [{bar:32}] {pos}/{len} {per_sec} eta {eta}",
+    )
+    .ok()
+    .filter(|_| style.progress)
+    {
+        bar.set_style(s.progress_chars("=> "));
+    }
+    let progress = BarProgress(bar.clone());
     let start = std::time::Instant::now();
     let ran = sweep::run_sweep(
         &spec,
@@ -129,7 +172,10 @@ pub fn sweep_command(args: SweepArgs) -> Result<()> {
         threads,
         || {
             Scenario::load(&script)
-                .map(|scenario| ScenarioRunner { scenario })
+                .map(|scenario| ScenarioRunner {
+                    path: script.clone(),
+                    scenario,
+                })
                 .map_err(|e| e.to_string())
         },
         &progress,
@@ -200,10 +246,25 @@ fn fan_chart(summary: &Summary, path: &Path) -> Result<()> {
     let root = SVGBackend::new(path, (820, 460)).into_drawing_area();
     root.fill(&WHITE)?;
     let t_max = summary.band_times_h.last().copied().unwrap_or(1.0).max(1.0);
-    let lo = summary.bands.iter().map(|b| b[0]).fold(f64::INFINITY, f64::min).floor() - 1.0;
-    let hi = summary.bands.iter().map(|b| b[4]).fold(f64::NEG_INFINITY, f64::max).ceil() + 1.0;
+    let lo = summary
+        .bands
+        .iter()
+        .map(|b| b[0])
+        .fold(f64::INFINITY, f64::min)
+        .floor()
+        - 1.0;
+    let hi = summary
+        .bands
+        .iter()
+        .map(|b| b[4])
+        .fold(f64::NEG_INFINITY, f64::max)
+        .ceil()
+        + 1.0;
     let mut chart = ChartBuilder::on(&root)
-        .caption("Serum sodium across the sweep (5-95 and 25-75 % bands, median)", ("sans-serif", 18))
+        .caption(
+            "Serum sodium across the sweep (5-95 and 25-75 % bands, median)",
+            ("sans-serif", 18),
+        )
         .margin(14)
         .x_label_area_size(40)
         .y_label_area_size(56)
@@ -216,23 +277,45 @@ fn fan_chart(summary: &Summary, path: &Path) -> Result<()> {
         .y_label_formatter(&|y| format!("{y:.0}"))
         .draw()?;
     let band = |i: usize, j: usize| -> Vec<(f64, f64)> {
-        let mut pts: Vec<(f64, f64)> = summary.band_times_h.iter().zip(summary.bands.iter()).map(|(t, b)| (*t, b[i])).collect();
-        pts.extend(summary.band_times_h.iter().zip(summary.bands.iter()).rev().map(|(t, b)| (*t, b[j])));
+        let mut pts: Vec<(f64, f64)> = summary
+            .band_times_h
+            .iter()
+            .zip(summary.bands.iter())
+            .map(|(t, b)| (*t, b[i]))
+            .collect();
+        pts.extend(
+            summary
+                .band_times_h
+                .iter()
+                .zip(summary.bands.iter())
+                .rev()
+                .map(|(t, b)| (*t, b[j])),
+        );
         pts
     };
     let outer = RGBColor(158, 202, 225);
     let inner = RGBColor(66, 146, 198);
     chart
-        .draw_series(std::iter::once(Polygon::new(band(0, 4), outer.mix(0.5).filled())))?
+        .draw_series(std::iter::once(Polygon::new(
+            band(0, 4),
+            outer.mix(0.5).filled(),
+        )))?
         .label("5-95 %")
         .legend(move |(x, y)| Rectangle::new([(x, y - 5), (x + 14, y + 5)], outer.filled()));
     chart
-        .draw_series(std::iter::once(Polygon::new(band(1, 3), inner.mix(0.6).filled())))?
+        .draw_series(std::iter::once(Polygon::new(
+            band(1, 3),
+            inner.mix(0.6).filled(),
+        )))?
         .label("25-75 %")
         .legend(move |(x, y)| Rectangle::new([(x, y - 5), (x + 14, y + 5)], inner.filled()));
     chart
         .draw_series(LineSeries::new(
-            summary.band_times_h.iter().zip(summary.bands.iter()).map(|(t, b)| (*t, b[2])),
+            summary
+                .band_times_h
+                .iter()
+                .zip(summary.bands.iter())
+                .map(|(t, b)| (*t, b[2])),
             ShapeStyle::from(&RGBColor(8, 48, 107)).stroke_width(2),
         ))?
         .label("median")
@@ -255,7 +338,10 @@ fn sensitivity_chart(summary: &Summary, path: &Path) -> Result<()> {
     let root = SVGBackend::new(path, (820, (120 + 34 * n) as u32)).into_drawing_area();
     root.fill(&WHITE)?;
     let mut chart = ChartBuilder::on(&root)
-        .caption("What drives the largest 24 h rise (rank correlation)", ("sans-serif", 18))
+        .caption(
+            "What drives the largest 24 h rise (rank correlation)",
+            ("sans-serif", 18),
+        )
         .margin(14)
         .x_label_area_size(40)
         .y_label_area_size(230)
@@ -271,9 +357,16 @@ fn sensitivity_chart(summary: &Summary, path: &Path) -> Result<()> {
         .x_label_formatter(&|x| format!("{x:+.1}"))
         .draw()?;
     chart.draw_series(summary.sensitivity.iter().enumerate().map(|(i, (_, r))| {
-        let color = if *r >= 0.0 { RGBColor(203, 24, 29) } else { RGBColor(33, 113, 181) };
+        let color = if *r >= 0.0 {
+            RGBColor(203, 24, 29)
+        } else {
+            RGBColor(33, 113, 181)
+        };
         Rectangle::new(
-            [(0.0, SegmentValue::Exact(i)), (*r, SegmentValue::Exact(i + 1))],
+            [
+                (0.0, SegmentValue::Exact(i)),
+                (*r, SegmentValue::Exact(i + 1)),
+            ],
             color.mix(0.8).filled(),
         )
     }))?;

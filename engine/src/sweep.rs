@@ -312,7 +312,9 @@ impl Default for SweepOutputs {
     }
 }
 
-/// A sweep specification (YAML).
+/// A sweep specification (YAML). Parameter names are engine parameters,
+/// `patient.<field>`, or `script.<name>` for a script's
+/// `setting(name, default)` word.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct SweepSpec {
@@ -417,7 +419,10 @@ impl SweepSpec {
             if let Some(d) = &p.distribution {
                 d.check(&p.name).map_err(|m| spec_error(file, m))?;
             }
-            if !p.name.starts_with("patient.") && crate::params::info(&p.name).is_none() {
+            if !p.name.starts_with("patient.")
+                && !p.name.starts_with("script.")
+                && crate::params::info(&p.name).is_none()
+            {
                 let suggestion = crate::suggest::closest(
                     &p.name,
                     crate::params::PARAMETERS.iter().map(|i| i.name),
@@ -425,7 +430,7 @@ impl SweepSpec {
                 return Err(spec_error(
                     file,
                     format!(
-                        "parameter {}: not an engine parameter nor patient.<field>{}",
+                        "parameter {}: not an engine parameter, patient.<field> or script.<setting>{}",
                         p.name,
                         suggestion
                             .map(|s| format!(" (did you mean \"{s}\"?)"))
@@ -659,6 +664,10 @@ pub fn apply_overrides(
     overrides: &[(String, f64)],
 ) -> Result<(), String> {
     for (name, value) in overrides {
+        if name.starts_with("script.") {
+            // Script settings are applied when the script is loaded.
+            continue;
+        }
         match name.strip_prefix("patient.") {
             Some(field) => set_patient_field(&mut plan.patient, field, *value)?,
             None => {
@@ -682,6 +691,11 @@ pub struct PlanRunner {
 
 impl MemberRunner for PlanRunner {
     fn run(&mut self, overrides: &[(String, f64)]) -> Result<Trajectory, String> {
+        if let Some((name, _)) = overrides.iter().find(|(n, _)| n.starts_with("script.")) {
+            return Err(format!(
+                "{name}: script settings need a scenario script as the base"
+            ));
+        }
         let mut plan = self.base.clone();
         apply_overrides(&mut plan, overrides)?;
         crate::simulate::Simulation::new(plan)

@@ -94,6 +94,9 @@ pub struct Scenario {
     started: Vec<(f64, usize)>,
     log: Rc<RefCell<Vec<String>>>,
     clock: Rc<Cell<Option<Instant>>>,
+    settings: Vec<(String, f64)>,
+    base_dir: PathBuf,
+    ran: Cell<bool>,
 }
 
 impl std::fmt::Debug for Scenario {
@@ -344,7 +347,38 @@ impl Scenario {
         source: &str,
         base_dir: &Path,
     ) -> Result<Scenario, ScenarioError> {
+        Self::from_source_with_settings(name, source, base_dir, &[])
+    }
+
+    /// Read and load a script file with values for its `setting(name,
+    /// default)` words (a sweep member varying a script setting).
+    pub fn load_with_settings(
+        path: &Path,
+        settings: &[(String, f64)],
+    ) -> Result<Scenario, ScenarioError> {
+        let name = path.display().to_string();
+        let source = std::fs::read_to_string(path).map_err(|e| ScenarioError::Read {
+            file: name.clone(),
+            message: e.to_string(),
+        })?;
+        let base = match path.parent() {
+            Some(b) if !b.as_os_str().is_empty() => b,
+            _ => Path::new("."),
+        };
+        let mut s = Self::from_source_with_settings(&name, &source, base, settings)?;
+        s.path = Some(path.to_path_buf());
+        Ok(s)
+    }
+
+    /// [`Scenario::from_source`] with values for `setting(name, default)`.
+    pub fn from_source_with_settings(
+        name: &str,
+        source: &str,
+        base_dir: &Path,
+        settings: &[(String, f64)],
+    ) -> Result<Scenario, ScenarioError> {
         let state: Shared = Rc::new(RefCell::new(State::new(base_dir)));
+        state.borrow_mut().settings = settings.iter().cloned().collect();
         let log = Rc::new(RefCell::new(Vec::new()));
         let clock = Rc::new(Cell::new(None));
         let engine = sandboxed_engine(&state, Rc::from(source), log.clone(), clock.clone());
@@ -412,6 +446,9 @@ impl Scenario {
             started,
             log,
             clock,
+            settings: settings.to_vec(),
+            base_dir: base_dir.to_path_buf(),
+            ran: Cell::new(false),
         })
     }
 
@@ -453,7 +490,26 @@ impl Scenario {
     /// Simulate the plan, calling the rules at their check times, and
     /// check the expectations.
     pub fn run(&self) -> Result<ScenarioRun, ScenarioError> {
-        let sim = Simulation::new(self.plan.clone()).map_err(|e| ScenarioError::Simulation {
+        self.run_with_plan(self.plan.clone())
+    }
+
+    /// Like [`Scenario::run`], with another plan in place of the script's
+    /// (a sweep member: the script's plan with some patient fields or
+    /// parameters changed). The script's rules and expectations still apply.
+    pub fn run_with_plan(&self, plan: Plan) -> Result<ScenarioRun, ScenarioError> {
+        // Rules may keep state in variables they capture (`let stopped =
+        // false;`): a second run starts from a freshly loaded script so that
+        // every run is independent of the ones before it.
+        if self.ran.replace(true) {
+            let fresh = Self::from_source_with_settings(
+                &self.name,
+                &self.source,
+                &self.base_dir,
+                &self.settings,
+            )?;
+            return fresh.run_with_plan(plan);
+        }
+        let sim = Simulation::new(plan).map_err(|e| ScenarioError::Simulation {
             file: self.name.clone(),
             line: 0,
             source: e,
@@ -737,5 +793,30 @@ mod tests {
         assert_eq!(run.expectations[0].line, 3);
         assert!(!run.expectations[0].passed);
         assert!(run.expectations[1].passed);
+    }
+}
+
+#[cfg(test)]
+mod rerun_tests {
+    use super::*;
+
+    #[test]
+    fn running_twice_gives_the_same_result() {
+        // A rule that keeps state in a captured variable must not leak it
+        // into the next run.
+        let script = r#"
+            patient(#{ sex: "female", age_years: 60, weight_kg: 60, na: 120, onset: "chronic" });
+            closed_system();
+            run_for(hours(6));
+            at(hours(0), infuse_at_rate("saline_3", ml_per_h(100)).labelled("drip"));
+            let stopped = false;
+            every(minutes(30), |labs| {
+                if !stopped && labs.na_change_since_start >= 3 { stop("drip"); stopped = true; }
+            });
+        "#;
+        let s = Scenario::from_source("twice.rhai", script, Path::new(".")).unwrap();
+        let a = s.run().unwrap();
+        let b = s.run().unwrap();
+        assert_eq!(a.trajectory.sodium(), b.trajectory.sodium());
     }
 }

@@ -71,6 +71,8 @@ pub(crate) struct State {
     /// Actions made inside a rule and not (yet) started.
     pub dangling: Vec<ActionValue>,
     pub next_id: u64,
+    /// Values given from outside (a sweep member) for `setting(name, default)`.
+    pub settings: std::collections::BTreeMap<String, f64>,
 }
 
 impl State {
@@ -93,6 +95,7 @@ impl State {
             pending: Vec::new(),
             dangling: Vec::new(),
             next_id: 0,
+            settings: Default::default(),
         }
     }
 }
@@ -102,6 +105,7 @@ pub(crate) type Shared = Rc<RefCell<State>>;
 /// Every word of the language with its usage, for messages and docs.
 pub const WORDS: &[(&str, &str)] = &[
     ("title", "title(text)"),
+    ("setting", "setting(name, default)"),
     ("description", "description(text)"),
     (
         "patient",
@@ -496,6 +500,16 @@ pub(crate) fn data_path(base: &Path, name: &str) -> Result<PathBuf, String> {
 
 /// Register every word on `engine`, sharing `st`.
 pub(crate) fn register(engine: &mut Engine, st: &Shared, source: Rc<str>) {
+    // --- settings a sweep can vary -------------------------------------
+    let s = st.clone();
+    engine.register_fn(
+        "setting",
+        move |ctx: NativeCallContext, name: Dynamic, default: Dynamic| -> Res<f64> {
+            let key = arg_text(&ctx, "setting", "the setting's name", &name)?;
+            let fallback = arg_number(&ctx, "setting", "the default value", &default)?;
+            Ok(s.borrow().settings.get(&key).copied().unwrap_or(fallback))
+        },
+    );
     // --- the case -----------------------------------------------------
     let s = st.clone();
     engine.register_fn(

@@ -17,7 +17,7 @@ use crate::limits::LimitChoice;
 use crate::model::{Inputs, Model, Observation, Switches, N_INPUTS};
 use crate::params::Params;
 use crate::patient::{Patient, ResolvedPatient};
-use crate::trajectory::{self, Sample, SolverStats, Trajectory};
+use crate::trajectory::{Sample, SolverStats, Trajectory};
 use diffsol::{
     Bdf, BdfState, Closure, ConstantClosure, NalgebraLU, NalgebraMat, NalgebraVec, NonLinearOp,
     OdeBuilder, OdeEquations, OdeSolverEquations, OdeSolverMethod, OdeSolverProblem,
@@ -974,20 +974,38 @@ impl Simulation {
         if schedule.advance_to(t) {
             let inputs = schedule.inputs();
             let obs = self.model.observe(y, &inputs);
-            let mut times: Vec<f64> = samples.iter().map(|s| s.time_h).collect();
-            let mut na: Vec<f64> = samples.iter().map(|s| s.obs.na_mmol_l).collect();
-            if times.last().is_none_or(|&last| t > last + EPS_H) {
-                times.push(t);
-                na.push(obs.na_mmol_l);
-            }
-            let j = times.len() - 1;
+            // Sodium now, at the start and back in time, read off the samples
+            // taken so far (no copies: checks can be frequent).
+            let na_now = match samples.last() {
+                Some(last) if (t - last.time_h).abs() <= EPS_H => last.obs.na_mmol_l,
+                _ => obs.na_mmol_l,
+            };
+            let na_first = samples.first().map_or(na_now, |s| s.obs.na_mmol_l);
+            let na_back = |window_h: f64| -> f64 {
+                let Some(first) = samples.first() else {
+                    return na_now;
+                };
+                let tq = (t - window_h).max(first.time_h);
+                let j = samples.partition_point(|s| s.time_h < tq);
+                if j == 0 {
+                    return first.obs.na_mmol_l;
+                }
+                let (a, b_time, b_na) = match samples.get(j) {
+                    Some(b) => (&samples[j - 1], b.time_h, b.obs.na_mmol_l),
+                    None => (&samples[j - 1], t, na_now),
+                };
+                if b_time - a.time_h <= EPS_H {
+                    return b_na;
+                }
+                a.obs.na_mmol_l + (b_na - a.obs.na_mmol_l) * (tq - a.time_h) / (b_time - a.time_h)
+            };
             let snapshot = Snapshot {
                 time_h: t,
                 obs,
-                na_start: na[0],
-                na_change_since_start: na[j] - na[0],
-                na_change_24h: trajectory::trailing_change(&times, &na, j, 24.0),
-                na_change_48h: trajectory::trailing_change(&times, &na, j, 48.0),
+                na_start: na_first,
+                na_change_since_start: na_now - na_first,
+                na_change_24h: na_now - na_back(24.0),
+                na_change_48h: na_now - na_back(48.0),
                 running: schedule.labels(),
             };
             let actions = controller

@@ -202,38 +202,8 @@ pub fn lab_names() -> impl Iterator<Item = &'static str> + Clone {
         .chain(OBS_LABS.iter().map(|l| l.name))
 }
 
-/// The snapshot a rule sees, as `labs`.
-#[derive(Debug, Clone)]
-pub struct Labs {
-    /// Simulated time, h.
-    pub time_h: f64,
-    /// Labs and flows now.
-    pub obs: Observation,
-    /// Sodium at the start, mmol/L.
-    pub na_start: f64,
-    /// Change since the start, mmol/L.
-    pub na_change_since_start: f64,
-    /// Change over the trailing 24 h, mmol/L.
-    pub na_change_24h: f64,
-    /// Change over the trailing 48 h, mmol/L.
-    pub na_change_48h: f64,
-    /// Labels of the running streams.
-    pub running: Vec<String>,
-}
-
-impl Labs {
-    fn from_snapshot(s: &Snapshot) -> Self {
-        Labs {
-            time_h: s.time_h,
-            obs: s.obs,
-            na_start: s.na_start,
-            na_change_since_start: s.na_change_since_start,
-            na_change_24h: s.na_change_24h,
-            na_change_48h: s.na_change_48h,
-            running: s.running.clone(),
-        }
-    }
-}
+/// The snapshot a rule sees, as `labs`: the engine's [`Snapshot`].
+pub type Labs = Snapshot;
 
 pub(crate) fn register_labs(engine: &mut Engine) {
     engine.register_type_with_name::<Labs>("labs");
@@ -379,7 +349,7 @@ impl Controller for ScriptController<'_> {
         if self.failure.is_some() {
             return Err("an earlier rule failed".into());
         }
-        let labs = Labs::from_snapshot(snapshot);
+        let labs = snapshot.clone();
         let mut actions = Vec::new();
         for rule in self.rules {
             if !due(snapshot.time_h, rule.interval_h) {

@@ -20,10 +20,18 @@ if ! "$venv/bin/python" -c 'import numpy, scipy, pytest' 2>/dev/null; then
 fi
 
 cd "$root"
-cargo build --quiet --release -p tidewater-engine --example crosscheck_export
+# The comparison needs no release build (dependencies are optimised in the
+# test profile too); the speed comparison (--bench) does.
+if [ "${1:-}" = "--bench" ]; then
+    profile=release
+    cargo build --quiet --release -p tidewater-engine --example crosscheck_export
+else
+    profile=debug
+    cargo build --quiet -p tidewater-engine --example crosscheck_export
+fi
 out=$CARGO_TARGET_DIR/crosscheck
 rm -rf "$out"
-"$CARGO_TARGET_DIR/release/examples/crosscheck_export" "$out"
+"$CARGO_TARGET_DIR/$profile/examples/crosscheck_export" "$out"
 
 TIDEWATER_XCHECK_DIR=$out "$venv/bin/python" -m pytest -q -p no:cacheprovider \
     "$here/test_crosscheck.py"

@@ -575,17 +575,6 @@ impl Schedule {
         next.max(t)
     }
 
-    fn next_break(&self, t: f64, end: f64) -> f64 {
-        let mut next = end.min(self.next_check_h);
-        if let Some(e) = self.events.get(self.next_event) {
-            next = next.min(e.time_h);
-        }
-        for r in &self.running {
-            next = next.min(r.end_h);
-        }
-        next.max(t)
-    }
-
     fn inputs(&self) -> Inputs {
         self.running
             .iter()
@@ -746,12 +735,13 @@ impl Simulation {
         let mut schedule = self.initial_schedule();
         schedule.check_every_h = None;
         schedule.next_check_h = f64::INFINITY;
+        // Without checks, the only breaks are the hard ones.
         let mut segments: Vec<(f64, f64, Inputs)> = Vec::new();
         let mut t = 0.0;
         schedule.advance_to(0.0);
         loop {
             let inputs = schedule.inputs();
-            let stop = schedule.next_break(t, end);
+            let stop = schedule.next_hard_break(t, end);
             match segments.last_mut() {
                 Some(last) if last.2 == inputs => last.1 = stop,
                 _ => segments.push((t, stop, inputs)),

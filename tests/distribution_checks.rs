@@ -52,3 +52,24 @@ fn m5_dextrose_distributes_like_water() {
     assert!((0.07..=0.10).contains(&plasma), "plasma share {plasma:.3}");
     assert!((0.60..=0.72).contains(&cells), "cell share {cells:.3}");
 }
+
+/// The body-water rule of thumb (0.5 L/kg for a woman under 65, common
+/// practice) can be overridden by name, and the override reaches the
+/// patient's volumes, not only the parameter table.
+#[test]
+fn a_body_water_fraction_override_sizes_the_compartments() {
+    let sim = |fraction: Option<f64>| {
+        let mut plan = Plan::new(Patient::healthy("female", 50.0, 60.0)).run_for(1.0);
+        if let Some(f) = fraction {
+            plan = plan.set_param("tbw_fraction_woman", f).unwrap();
+        }
+        tidewater::Simulation::new(plan).unwrap()
+    };
+    assert!((sim(None).patient().total_water_l - 30.0).abs() < 1e-9);
+    assert!((sim(Some(0.45)).patient().total_water_l - 27.0).abs() < 1e-9);
+    let traj = run(Plan::new(Patient::healthy("female", 50.0, 60.0))
+        .run_for(1.0)
+        .set_param("tbw_fraction_woman", 0.45)
+        .unwrap());
+    assert!((traj.samples[0].obs.total_water_l - 27.0).abs() < 1e-6);
+}

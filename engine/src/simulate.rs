@@ -691,7 +691,14 @@ impl Simulation {
     /// Check the plan, resolve the patient and build the initial state.
     pub fn new(plan: Plan) -> Result<Self, SimulationError> {
         plan.check()?;
-        let patient = plan.patient.resolve(&plan.params)?;
+        // The patient is resolved with the overrides in place (they may
+        // name a body-water fraction or a hematocrit); the cause then
+        // adjusts the parameters and the overrides have the last word.
+        let mut resolving = plan.params.clone();
+        for (name, value) in &plan.overrides {
+            resolving.set(name, *value)?;
+        }
+        let patient = plan.patient.resolve(&resolving)?;
         let mut params = plan.params.clone();
         patient.cause.apply(&patient, &mut params);
         for (name, value) in &plan.overrides {

@@ -93,6 +93,12 @@ pub enum Command {
         after_help = "Example:\n  tidewater merge runs/s/shard-*.csv --out runs/s/results.csv --spec spec.yaml"
     )]
     Merge(crate::sweep_command::MergeArgs),
+    /// Run scenarios as regression tests: their expectations must hold and
+    /// their samples must stay within tolerance of stored baselines.
+    #[command(
+        after_help = "Examples:\n  tidewater check                              # every scenario in scenarios/\n  tidewater check scenarios/bolus.rhai --junit check.xml\n  tidewater check --update scenarios/bolus.rhai   # write or refresh its baseline\n  tidewater check --require-baseline --tolerances tol.yaml scenarios/\n\nBaselines are CSV files of key samples, scenarios/baselines/<name>.csv by\ndefault; tolerances.yaml beside them overrides the built-in tolerances.\n\nExit codes:\n  0  every scenario held (or, with --update, its baseline was written)\n  1  an expectation failed or a run left its baseline\n  2  bad input: an option, a script, a baseline or a tolerance file"
+    )]
+    Check(crate::check::CheckArgs),
     /// Print the model dump of a scenario's plan as JSON: every parameter,
     /// the calibration, the initial state and the input segments (for an
     /// independent implementation of docs/equations.md).

@@ -8,7 +8,10 @@
 //!   built-in case or a scenario script).
 //! * `summary.rs`: the numbers a reader wants first.
 //! * `report/`: one writer per format behind [`report::Exporter`].
+//! * `check/`: scenarios as regression tests against stored baselines.
+//! * `sweep_command.rs`: parameter sweeps and their summaries.
 
+mod check;
 mod cli;
 mod commands;
 mod format;
@@ -74,6 +77,11 @@ fn dispatch(cli: Cli, style: Style) -> Result<Outcome> {
             Ok(Outcome::Ok)
         }
         Command::Sweep(args) => sweep_command::sweep_command(args, style).map(|_| Outcome::Ok),
+        Command::Check(args) => Ok(if check::check_command(args, style)? {
+            Outcome::Ok
+        } else {
+            Outcome::Failed
+        }),
         Command::Merge(args) => sweep_command::merge_command(args).map(|_| Outcome::Ok),
         Command::Dump { script } => {
             let scenario =

@@ -61,7 +61,7 @@ pub mod physiology;
 pub mod reference;
 pub mod scenario;
 pub mod simulate;
-pub(crate) mod suggest;
+pub mod suggest;
 pub mod sweep;
 pub mod trajectory;
 pub mod units;

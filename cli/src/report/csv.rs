@@ -5,6 +5,7 @@ use super::{write_file, Exporter, Report};
 use crate::format::sig;
 use anyhow::Result;
 use std::path::Path;
+use tidewater::Trajectory;
 
 /// The column names, in order (a contract: tests and users rely on them).
 pub const COLUMNS: [&str; 19] = [
@@ -35,38 +36,52 @@ pub const DIGITS: usize = 7;
 /// The CSV writer.
 pub struct Samples;
 
+/// The values of every sample of a trajectory, in [`COLUMNS`] order.
+pub fn values(traj: &Trajectory) -> Vec<[f64; COLUMNS.len()]> {
+    traj.samples
+        .iter()
+        .zip(&traj.na_change_24h)
+        .map(|(s, c24)| {
+            let o = &s.obs;
+            [
+                s.time_h,
+                o.na_mmol_l,
+                o.k_mmol_l,
+                o.glucose_mmol_l,
+                o.urea_mmol_l,
+                o.albumin_g_l,
+                o.osmolality_mosm_kg,
+                o.tonicity_mosm_kg,
+                o.cells_l,
+                o.red_cells_l,
+                o.interstitium_l,
+                o.plasma_l,
+                o.brain_volume_index,
+                o.urine_ml_h,
+                o.urine_osm_mosm_kg,
+                o.urine_na_mmol_l,
+                o.efwc_ml_h,
+                o.hematocrit,
+                *c24,
+            ]
+        })
+        .collect()
+}
+
+/// One CSV line of values with [`DIGITS`] significant digits.
+pub fn line(values: &[f64]) -> String {
+    let cells: Vec<String> = values.iter().map(|&v| sig(v, DIGITS)).collect();
+    cells.join(",") + "\n"
+}
+
 /// The CSV text of a run.
 pub fn render(report: &Report) -> String {
     let traj = &report.input.trajectory;
     let mut out = String::with_capacity(traj.samples.len() * 200);
     out.push_str(&COLUMNS.join(","));
     out.push('\n');
-    for (s, c24) in traj.samples.iter().zip(&traj.na_change_24h) {
-        let o = &s.obs;
-        let values = [
-            s.time_h,
-            o.na_mmol_l,
-            o.k_mmol_l,
-            o.glucose_mmol_l,
-            o.urea_mmol_l,
-            o.albumin_g_l,
-            o.osmolality_mosm_kg,
-            o.tonicity_mosm_kg,
-            o.cells_l,
-            o.red_cells_l,
-            o.interstitium_l,
-            o.plasma_l,
-            o.brain_volume_index,
-            o.urine_ml_h,
-            o.urine_osm_mosm_kg,
-            o.urine_na_mmol_l,
-            o.efwc_ml_h,
-            o.hematocrit,
-            *c24,
-        ];
-        let cells: Vec<String> = values.iter().map(|&v| sig(v, DIGITS)).collect();
-        out.push_str(&cells.join(","));
-        out.push('\n');
+    for row in values(traj) {
+        out.push_str(&line(&row));
     }
     out
 }

@@ -1,0 +1,132 @@
+//! The results of `check` as JUnit XML, for CI systems that read it. No
+//! timings are written, so the same results give the same bytes.
+
+use super::{CaseResult, Status};
+use std::fmt::Write;
+
+/// Escape text for XML attributes and content.
+fn escape(text: &str) -> String {
+    let mut out = String::with_capacity(text.len());
+    for c in text.chars() {
+        match c {
+            '&' => out.push_str("&amp;"),
+            '<' => out.push_str("&lt;"),
+            '>' => out.push_str("&gt;"),
+            '"' => out.push_str("&quot;"),
+            '\'' => out.push_str("&apos;"),
+            // Control characters are not allowed in XML 1.0.
+            c if (c as u32) < 0x20 && !matches!(c, '\n' | '\t' | '\r') => out.push(' '),
+            c => out.push(c),
+        }
+    }
+    out
+}
+
+/// The JUnit XML of a check run.
+pub fn render(results: &[CaseResult]) -> String {
+    let failures = results
+        .iter()
+        .filter(|r| r.status == Status::Failed)
+        .count();
+    let errors = results.iter().filter(|r| r.status == Status::Error).count();
+    let mut out = String::from("<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n");
+    let counts = format!(
+        "tests=\"{}\" failures=\"{failures}\" errors=\"{errors}\"",
+        results.len()
+    );
+    let _ = writeln!(out, "<testsuites name=\"tidewater check\" {counts}>");
+    let _ = writeln!(
+        out,
+        "  <testsuite name=\"tidewater check\" {counts} skipped=\"0\">"
+    );
+    for r in results {
+        let classname = r
+            .script
+            .parent()
+            .map(|p| p.to_string_lossy().replace(['/', '\\'], "."))
+            .filter(|p| !p.is_empty())
+            .unwrap_or_else(|| ".".into());
+        let open = format!(
+            "    <testcase name=\"{}\" classname=\"{}\" file=\"{}\"",
+            escape(&r.name),
+            escape(&classname),
+            escape(&r.script.display().to_string())
+        );
+        let body = escape(&r.details.join("\n"));
+        match r.status {
+            Status::Failed | Status::Error => {
+                let (tag, kind) = if r.status == Status::Failed {
+                    ("failure", "regression")
+                } else {
+                    ("error", "input")
+                };
+                let _ = writeln!(out, "{open}>");
+                let _ = writeln!(
+                    out,
+                    "      <{tag} type=\"{kind}\" message=\"{}\">{body}</{tag}>",
+                    escape(&r.headline)
+                );
+                let _ = writeln!(out, "    </testcase>");
+            }
+            _ => {
+                let _ = writeln!(out, "{open}>");
+                let _ = writeln!(
+                    out,
+                    "      <system-out>{}</system-out>",
+                    escape(&r.headline)
+                );
+                let _ = writeln!(out, "    </testcase>");
+            }
+        }
+    }
+    out.push_str("  </testsuite>\n</testsuites>\n");
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::path::PathBuf;
+
+    #[test]
+    fn failures_and_errors_are_counted_and_escaped() {
+        let case = |name: &str, status, headline: &str, details: Vec<&str>| CaseResult {
+            script: PathBuf::from(format!("scenarios/{name}.rhai")),
+            name: name.into(),
+            status,
+            headline: headline.into(),
+            details: details.into_iter().map(String::from).collect(),
+        };
+        let xml = render(&[
+            case("a", Status::Passed, "held", vec![]),
+            case(
+                "b",
+                Status::Failed,
+                "na <moved> & \"more\"",
+                vec!["na_mmol_l: x"],
+            ),
+            case("c", Status::Error, "bad baseline", vec!["line 4"]),
+        ]);
+        assert!(
+            xml.contains(
+                "<testsuites name=\"tidewater check\" tests=\"3\" failures=\"1\" errors=\"1\">"
+            ),
+            "{xml}"
+        );
+        assert!(
+            xml.contains("message=\"na &lt;moved&gt; &amp; &quot;more&quot;\""),
+            "{xml}"
+        );
+        assert!(
+            xml.contains("<error type=\"input\" message=\"bad baseline\">line 4</error>"),
+            "{xml}"
+        );
+        assert!(xml.contains("classname=\"scenarios\""), "{xml}");
+        assert!(xml.ends_with("</testsuites>\n"));
+        // Well formed: every opened testcase is closed.
+        assert_eq!(
+            xml.matches("<testcase ").count(),
+            xml.matches("</testcase>").count()
+        );
+    }
+}

@@ -144,10 +144,15 @@ pub struct FluidLibrary {
 }
 
 impl FluidLibrary {
-    /// The bundled library.
+    /// The bundled library (parsed once per process).
     pub fn bundled() -> Self {
-        Self::from_yaml(BUNDLED_YAML, "scenarios/fluids.yaml")
-            .expect("the bundled fluid library is valid")
+        static PARSED: std::sync::OnceLock<FluidLibrary> = std::sync::OnceLock::new();
+        PARSED
+            .get_or_init(|| {
+                Self::from_yaml(BUNDLED_YAML, "scenarios/fluids.yaml")
+                    .expect("the bundled fluid library is valid")
+            })
+            .clone()
     }
 
     /// Parse a fluid file; errors name the file, line and field.

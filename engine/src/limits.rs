@@ -90,10 +90,16 @@ impl LimitChoice {
     }
 }
 
-/// All bundled guidelines.
+/// All bundled guidelines (parsed once per process).
 pub fn bundled() -> Vec<Guideline> {
-    let f: GuidelineFile = serde_yaml::from_str(BUNDLED_YAML).expect("bundled limits are valid");
-    f.guidelines
+    static PARSED: std::sync::OnceLock<Vec<Guideline>> = std::sync::OnceLock::new();
+    PARSED
+        .get_or_init(|| {
+            let f: GuidelineFile =
+                serde_yaml::from_str(BUNDLED_YAML).expect("bundled limits are valid");
+            f.guidelines
+        })
+        .clone()
 }
 
 /// Pick a bundled guideline by id.

@@ -153,7 +153,12 @@ fn sandboxed_engine(
     clock: Rc<Cell<Option<Instant>>>,
 ) -> Engine {
     let mut engine = Engine::new_raw();
-    engine.register_global_module(StandardPackage::new().as_shared_module());
+    thread_local! {
+        // Building the standard package registers hundreds of functions:
+        // once per thread, shared by every engine of the thread.
+        static STANDARD: rhai::Shared<rhai::Module> = StandardPackage::new().as_shared_module();
+    }
+    engine.register_global_module(STANDARD.with(|m| m.clone()));
     engine
         .set_max_operations(MAX_OPERATIONS)
         .set_max_call_levels(MAX_CALL_LEVELS)

@@ -4,22 +4,20 @@
 use super::{CaseResult, Status};
 use std::fmt::Write;
 
-/// Escape text for XML attributes and content.
+/// Escape text for XML attributes and content: the HTML escapes (valid in
+/// XML too), with the control characters XML 1.0 does not allow blanked.
 fn escape(text: &str) -> String {
-    let mut out = String::with_capacity(text.len());
-    for c in text.chars() {
-        match c {
-            '&' => out.push_str("&amp;"),
-            '<' => out.push_str("&lt;"),
-            '>' => out.push_str("&gt;"),
-            '"' => out.push_str("&quot;"),
-            '\'' => out.push_str("&apos;"),
-            // Control characters are not allowed in XML 1.0.
-            c if (c as u32) < 0x20 && !matches!(c, '\n' | '\t' | '\r') => out.push(' '),
-            c => out.push(c),
-        }
-    }
-    out
+    let clean: String = text
+        .chars()
+        .map(|c| {
+            if (c as u32) < 0x20 && !matches!(c, '\n' | '\t' | '\r') {
+                ' '
+            } else {
+                c
+            }
+        })
+        .collect();
+    crate::report::html::escape(&clean)
 }
 
 /// The JUnit XML of a check run.
@@ -52,32 +50,22 @@ pub fn render(results: &[CaseResult]) -> String {
             escape(&classname),
             escape(&r.script.display().to_string())
         );
-        let body = escape(&r.details.join("\n"));
-        match r.status {
+        let inner = match r.status {
             Status::Failed | Status::Error => {
                 let (tag, kind) = if r.status == Status::Failed {
                     ("failure", "regression")
                 } else {
                     ("error", "input")
                 };
-                let _ = writeln!(out, "{open}>");
-                let _ = writeln!(
-                    out,
-                    "      <{tag} type=\"{kind}\" message=\"{}\">{body}</{tag}>",
-                    escape(&r.headline)
-                );
-                let _ = writeln!(out, "    </testcase>");
+                format!(
+                    "<{tag} type=\"{kind}\" message=\"{}\">{}</{tag}>",
+                    escape(&r.headline),
+                    escape(&r.details.join("\n"))
+                )
             }
-            _ => {
-                let _ = writeln!(out, "{open}>");
-                let _ = writeln!(
-                    out,
-                    "      <system-out>{}</system-out>",
-                    escape(&r.headline)
-                );
-                let _ = writeln!(out, "    </testcase>");
-            }
-        }
+            _ => format!("<system-out>{}</system-out>", escape(&r.headline)),
+        };
+        let _ = writeln!(out, "{open}>\n      {inner}\n    </testcase>");
     }
     out.push_str("  </testsuite>\n</testsuites>\n");
     out

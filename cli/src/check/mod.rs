@@ -408,8 +408,8 @@ pub fn render_text(results: &[CaseResult], style: Style) -> String {
             Status::Error => style.bad("ERROR  "),
         };
         out.push_str(&format!("{mark} {}: {}\n", r.script.display(), r.headline));
-        for d in &r.details {
-            out.push_str(&format!("        {d}\n"));
+        for line in r.details.iter().flat_map(|d| d.lines()) {
+            out.push_str(&format!("        {line}\n"));
         }
     }
     let count = |s: Status| results.iter().filter(|r| r.status == s).count();

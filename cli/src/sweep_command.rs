@@ -56,7 +56,6 @@ impl sweep::Progress for BarProgress {
 }
 
 struct ScenarioRunner {
-    path: PathBuf,
     scenario: Scenario,
 }
 
@@ -70,8 +69,10 @@ impl MemberRunner for ScenarioRunner {
         let scenario = if settings.is_empty() {
             &self.scenario
         } else {
-            reloaded =
-                Scenario::load_with_settings(&self.path, &settings).map_err(|e| e.to_string())?;
+            reloaded = self
+                .scenario
+                .reloaded(&settings)
+                .map_err(|e| e.to_string())?;
             &reloaded
         };
         let mut plan = scenario.plan().clone();
@@ -172,10 +173,7 @@ pub fn sweep_command(args: SweepArgs, style: crate::options::Style) -> Result<()
         threads,
         || {
             Scenario::load(&script)
-                .map(|scenario| ScenarioRunner {
-                    path: script.clone(),
-                    scenario,
-                })
+                .map(|scenario| ScenarioRunner { scenario })
                 .map_err(|e| e.to_string())
         },
         &progress,

@@ -382,24 +382,39 @@ impl Scenario {
         base_dir: &Path,
         settings: &[(String, f64)],
     ) -> Result<Scenario, ScenarioError> {
+        Self::build(name, source, base_dir, settings, None)
+    }
+
+    /// Load a script, reusing `compiled` (the script's own AST from an
+    /// earlier load) when given.
+    fn build(
+        name: &str,
+        source: &str,
+        base_dir: &Path,
+        settings: &[(String, f64)],
+        compiled: Option<AST>,
+    ) -> Result<Scenario, ScenarioError> {
         let state: Shared = Rc::new(RefCell::new(State::new(base_dir)));
         state.borrow_mut().settings = settings.iter().cloned().collect();
         let log = Rc::new(RefCell::new(Vec::new()));
         let clock = Rc::new(Cell::new(None));
         let engine = sandboxed_engine(&state, Rc::from(source), log.clone(), clock.clone());
-        let ast = engine.compile(source).map_err(|e| {
-            let pos = e.position();
-            script_error(
-                name,
-                source,
-                pos.line().unwrap_or(0),
-                pos.position().unwrap_or(0),
-                match e.err_type() {
-                    rhai::ParseErrorType::VariableUndefined(n) => unknown_variable(n),
-                    other => format!("syntax error: {other}"),
-                },
-            )
-        })?;
+        let ast = match compiled {
+            Some(ast) => ast,
+            None => engine.compile(source).map_err(|e| {
+                let pos = e.position();
+                script_error(
+                    name,
+                    source,
+                    pos.line().unwrap_or(0),
+                    pos.position().unwrap_or(0),
+                    match e.err_type() {
+                        rhai::ParseErrorType::VariableUndefined(n) => unknown_variable(n),
+                        other => format!("syntax error: {other}"),
+                    },
+                )
+            })?,
+        };
         clock.set(Some(Instant::now()));
         let result = engine.run_ast(&ast);
         clock.set(None);
@@ -492,6 +507,21 @@ impl Scenario {
         (self.rules.len(), self.expectations.len())
     }
 
+    /// The same script loaded afresh (new variables, new plan) with values
+    /// for its `setting(name, default)` words; the compiled script is
+    /// reused, so this costs less than [`Scenario::load_with_settings`].
+    pub fn reloaded(&self, settings: &[(String, f64)]) -> Result<Scenario, ScenarioError> {
+        let mut s = Self::build(
+            &self.name,
+            &self.source,
+            &self.base_dir,
+            settings,
+            Some(self.ast.clone()),
+        )?;
+        s.path.clone_from(&self.path);
+        Ok(s)
+    }
+
     /// Simulate the plan, calling the rules at their check times, and
     /// check the expectations.
     pub fn run(&self) -> Result<ScenarioRun, ScenarioError> {
@@ -506,12 +536,7 @@ impl Scenario {
         // false;`): a second run starts from a freshly loaded script so that
         // every run is independent of the ones before it.
         if self.ran.replace(true) {
-            let fresh = Self::from_source_with_settings(
-                &self.name,
-                &self.source,
-                &self.base_dir,
-                &self.settings,
-            )?;
+            let fresh = self.reloaded(&self.settings)?;
             return fresh.run_with_plan(plan);
         }
         let sim = Simulation::new(plan).map_err(|e| ScenarioError::Simulation {

@@ -681,6 +681,12 @@ fn build_problem(
             message: e.to_string(),
         })?;
     problem.ode_options.max_number_timesteps = tol.max_steps;
+    // Let the step grow up to 10-fold from one step to the next, as SciPy's
+    // BDF does (diffsol's default is 2). After each restart at an input
+    // change the solver starts at order 1 from a small step, and the error
+    // test, not the growth limit, should decide how fast it gets back to
+    // the step size the solution allows.
+    problem.ode_options.max_timestep_growth = Some(MAX_STEP_GROWTH);
     Ok(problem)
 }
 
@@ -696,7 +702,21 @@ fn refresh(problem: &Problem, st: &mut State) {
         problem.eqn.rhs().call_inplace(&*s.y, *s.t, s.dy);
     }
     st.set_step_size(problem.h0, &problem.atol, problem.rtol, &problem.eqn, 1);
+    // The standard estimate (Hairer, Nørsett & Wanner, Solving Ordinary
+    // Differential Equations I, II.4) sizes a first-order step for a local
+    // error of 1 % of the tolerance; that error grows with the square of
+    // the step, so ten times that step aims at the tolerance itself. The
+    // error test still checks the step and cuts it when it is too long.
+    let s = st.as_mut();
+    *s.h *= FIRST_STEP_FACTOR;
 }
+
+/// Largest growth of the step size from one step to the next.
+const MAX_STEP_GROWTH: f64 = 10.0;
+
+/// Factor on the standard first-step estimate after a restart (see
+/// [`refresh`]).
+const FIRST_STEP_FACTOR: f64 = 10.0;
 
 /// A run in preparation: the model, its initial body and the plan.
 #[derive(Debug, Clone)]

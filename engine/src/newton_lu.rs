@@ -37,10 +37,68 @@ fn singular() -> LaError {
 /// vectorise the column updates.
 type Square<const N: usize> = [[T; N]; N];
 
-/// In-place LU with partial pivoting. `piv[k]` is the row swapped with row
-/// `k` at step `k` (LAPACK style: whole rows are swapped). Returns false
-/// when a pivot is exactly zero.
-fn factor<const N: usize>(a: &mut Square<N>, piv: &mut [usize; N]) -> bool {
+/// The kernels below (`factor`, `solve`, `sub_coupling`) are compiled twice
+/// on x86-64: for the baseline instruction set and with 256-bit vectors
+/// (AVX), picked at run time. AVX here means wider vectors of the same
+/// IEEE multiplications and subtractions, in the same order (no fused
+/// multiply-add), so both give the same bits.
+macro_rules! with_avx {
+    ($(#[$doc:meta])* fn $name:ident<const $n:ident: usize>($($arg:ident: $ty:ty),*) $(-> $ret:ty)?,
+     $avx:ident, $kernel:ident) => {
+        $(#[$doc])*
+        fn $name<const $n: usize>($($arg: $ty),*) $(-> $ret)? {
+            #[cfg(target_arch = "x86_64")]
+            if std::arch::is_x86_feature_detected!("avx") {
+                // SAFETY: the processor supports AVX (checked just above).
+                return unsafe { $avx::<$n>($($arg),*) };
+            }
+            $kernel::<$n>($($arg),*)
+        }
+
+        #[cfg(target_arch = "x86_64")]
+        #[target_feature(enable = "avx")]
+        unsafe fn $avx<const $n: usize>($($arg: $ty),*) $(-> $ret)? {
+            $kernel::<$n>($($arg),*)
+        }
+    };
+}
+
+with_avx!(
+    /// In-place LU with partial pivoting. `piv[k]` is the row swapped with
+    /// row `k` at step `k` (LAPACK style: whole rows are swapped). Returns
+    /// false when a pivot is exactly zero.
+    fn factor<const N: usize>(a: &mut Square<N>, piv: &mut [usize; N]) -> bool,
+    factor_avx,
+    factor_kernel
+);
+
+with_avx!(
+    /// Solve `(P·A = L·U)·x = b` in place.
+    fn solve<const N: usize>(lu: &Square<N>, piv: &[usize; N], b: &mut [T; N]),
+    solve_avx,
+    solve_kernel
+);
+
+with_avx!(
+    /// `x_L −= C·x_B` for the ledger × body block `C` (column-major, `N`
+    /// rows per column).
+    fn sub_coupling<const N: usize>(c: &[T], x_body: &[T], x_ledger: &mut [T; N]),
+    sub_coupling_avx,
+    sub_coupling_kernel
+);
+
+#[inline(always)]
+fn sub_coupling_kernel<const N: usize>(c: &[T], x_body: &[T], x_ledger: &mut [T; N]) {
+    for (col, &xj) in c.chunks_exact(N).zip(x_body) {
+        let col: &[T; N] = col.try_into().expect("N rows per column");
+        for i in 0..N {
+            x_ledger[i] -= col[i] * xj;
+        }
+    }
+}
+
+#[inline(always)]
+fn factor_kernel<const N: usize>(a: &mut Square<N>, piv: &mut [usize; N]) -> bool {
     let mut regular = true;
     for k in 0..N {
         let mut p = k;
@@ -79,8 +137,8 @@ fn factor<const N: usize>(a: &mut Square<N>, piv: &mut [usize; N]) -> bool {
     regular
 }
 
-/// Solve `(P·A = L·U)·x = b` in place.
-fn solve<const N: usize>(lu: &Square<N>, piv: &[usize; N], b: &mut [T; N]) {
+#[inline(always)]
+fn solve_kernel<const N: usize>(lu: &Square<N>, piv: &[usize; N], b: &mut [T; N]) {
     for (k, &p) in piv.iter().enumerate() {
         b.swap(k, p);
     }
@@ -155,8 +213,9 @@ fn leading<const N: usize>(b: &mut [T]) -> &mut [T; N] {
 }
 
 /// The Newton-matrix solver (see the module docs) for `N` states of which
-/// the leading `N_BODY` are the body (the only ones rates depend on).
-pub struct LedgerLu<const N_BODY: usize, const N: usize> {
+/// the leading `N_BODY` are the body (the only ones rates depend on) and
+/// the trailing `NL = N − N_BODY` the ledger.
+pub struct LedgerLu<const N_BODY: usize, const NL: usize, const N: usize> {
     /// The full Newton matrix as the solver builds it.
     matrix: Option<M>,
     /// Whether the last matrix had the ledger shape (else `full` holds the
@@ -170,19 +229,20 @@ pub struct LedgerLu<const N_BODY: usize, const N: usize> {
     full: Option<Factors<N>>,
 }
 
-impl<const N_BODY: usize, const N: usize> Default for LedgerLu<N_BODY, N> {
+impl<const N_BODY: usize, const NL: usize, const N: usize> Default for LedgerLu<N_BODY, NL, N> {
     fn default() -> Self {
+        assert_eq!(N_BODY + NL, N, "body and ledger make up the state");
         LedgerLu {
             matrix: None,
             ledger_shape: false,
             body: Factors::new(),
-            coupling: vec![0.0; N_BODY * (N - N_BODY)],
+            coupling: vec![0.0; N_BODY * (NL)],
             full: None,
         }
     }
 }
 
-impl<const N_BODY: usize, const N: usize> LedgerLu<N_BODY, N> {
+impl<const N_BODY: usize, const NL: usize, const N: usize> LedgerLu<N_BODY, NL, N> {
     /// Whether the full column-major matrix `a` has the ledger shape: zero
     /// above the identity of the trailing block.
     fn has_ledger_shape(a: &[T]) -> bool {
@@ -204,11 +264,8 @@ impl<const N_BODY: usize, const N: usize> LedgerLu<N_BODY, N> {
             solve(&self.body.lu, &self.body.piv, leading::<N_BODY>(b));
             // x_L = b_L − C·x_B.
             let (x_body, x_ledger) = b.split_at_mut(N_BODY);
-            for (c, &xj) in self.coupling.chunks_exact(N - N_BODY).zip(x_body.iter()) {
-                for (x, ci) in x_ledger.iter_mut().zip(c) {
-                    *x -= ci * xj;
-                }
-            }
+            let x_ledger: &mut [T; NL] = x_ledger.try_into().expect("ledger entries");
+            sub_coupling::<NL>(&self.coupling, x_body, x_ledger);
         } else {
             let full = self
                 .full
@@ -225,7 +282,9 @@ impl<const N_BODY: usize, const N: usize> LedgerLu<N_BODY, N> {
     }
 }
 
-impl<const N_BODY: usize, const N: usize> LinearSolver<M> for LedgerLu<N_BODY, N> {
+impl<const N_BODY: usize, const NL: usize, const N: usize> LinearSolver<M>
+    for LedgerLu<N_BODY, NL, N>
+{
     fn set_sparsity<C: LaLinearOp<V = V, T = T, M = M, C = diffsol::NalgebraContext>>(
         &mut self,
         op: &C,
@@ -250,7 +309,7 @@ impl<const N_BODY: usize, const N: usize> LinearSolver<M> for LedgerLu<N_BODY, N
         self.ledger_shape = N_BODY < N && Self::has_ledger_shape(a);
         if self.ledger_shape {
             self.body.factor_leading(a, N);
-            for (j, c) in self.coupling.chunks_exact_mut(N - N_BODY).enumerate() {
+            for (j, c) in self.coupling.chunks_exact_mut(NL).enumerate() {
                 c.copy_from_slice(&a[j * N + N_BODY..(j + 1) * N]);
             }
         } else {
@@ -273,11 +332,7 @@ impl<const N_BODY: usize, const N: usize> LinearSolver<M> for LedgerLu<N_BODY, N
             // A^T = | A_B^T  C^T |: x_L = b_L, then A_B^T·x_B = b_B − C^T·b_L.
             //       |   0     I  |
             let (x_body, x_ledger) = b.split_at_mut(N_BODY);
-            for (c, xj) in self
-                .coupling
-                .chunks_exact(N - N_BODY)
-                .zip(x_body.iter_mut())
-            {
+            for (c, xj) in self.coupling.chunks_exact(NL).zip(x_body.iter_mut()) {
                 let s: T = c.iter().zip(x_ledger.iter()).map(|(ci, xi)| ci * xi).sum();
                 *xj -= s;
             }
@@ -392,7 +447,7 @@ mod tests {
                 m[(i, j)] = v;
             }
         }
-        let mut ls = LedgerLu::<2, 3>::default();
+        let mut ls = LedgerLu::<2, 1, 3>::default();
         let op = Fixed(m);
         ls.set_sparsity(&op);
         ls.set_linearisation(&op);

@@ -32,7 +32,7 @@ type M = NalgebraMat<T>;
 type V = NalgebraVec<T>;
 /// Dense LU of the Newton matrix that factorises only the body block (see
 /// [`crate::newton_lu`]).
-type LS = crate::newton_lu::LedgerLu<N_STATES_BODY, N_STATES>;
+type LS = crate::newton_lu::LedgerLu<N_STATES_BODY, { N_STATES - N_STATES_BODY }, N_STATES>;
 type RhsFn = Box<dyn Fn(&[T], &[T], T, &mut [T]) + Send>;
 type JvpFn = Box<dyn Fn(&[T], &[T], T, &[T], &mut [T]) + Send>;
 type InitFn = Box<dyn Fn(&[T], T, &mut [T]) + Send>;

@@ -239,7 +239,13 @@ impl Species {
     /// Relative mass-balance residual: `(content − content₀ − in + out)`
     /// divided by the largest of the amounts involved.
     pub fn residual(self, y0: &[f64], y: &[f64]) -> f64 {
-        let (c0, c) = (self.content(y0), self.content(y));
+        self.residual_from(self.content(y0), y)
+    }
+
+    /// [`Species::residual`] with the content at the start given (to
+    /// check many states against one start).
+    pub fn residual_from(self, c0: f64, y: &[f64]) -> f64 {
+        let c = self.content(y);
         let (i, o) = (self.cumulative_in(y), self.cumulative_out(y));
         let scale = c0.abs().max(c.abs()).max(i.abs()).max(o.abs()).max(1e-300);
         (c - c0 - i + o) / scale

@@ -55,6 +55,7 @@ pub mod fluids;
 pub mod formulas;
 pub mod limits;
 pub mod model;
+pub(crate) mod newton_lu;
 pub mod params;
 pub mod patient;
 pub mod physiology;

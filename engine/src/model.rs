@@ -787,9 +787,10 @@ impl Model {
         // proportion to lymph flow (lymph protein falls as flow rises).
         let albumin_return = c.albumin_return_per_h
             * s(S::AlbuminInterstitium).max(0.0)
-            * (lymph / c.lymph0_l_h)
-                .max(0.0)
-                .powf(p.albumin_return_flow_exponent);
+            * crate::physiology::power(
+                (lymph / c.lymph0_l_h).max(0.0),
+                p.albumin_return_flow_exponent,
+            );
 
         // Potassium, urea and glucose handling by cells.
         let k_into_cells = potassium::flux_into_cells_mmol_h(c.k_rate, c.k_ratio, k_i, k_c);

@@ -10,7 +10,7 @@
 //! every step the body pools are checked: a pool that would become negative
 //! stops the run with an error naming the time and the pool.
 
-use crate::body::{Body, N_STATES, STATE_NAMES};
+use crate::body::{Body, N_STATES, N_STATES_BODY, STATE_NAMES};
 use crate::error::{InputError, SimulationError};
 use crate::fluids::Fluid;
 use crate::limits::LimitChoice;
@@ -19,9 +19,9 @@ use crate::params::Params;
 use crate::patient::{Patient, ResolvedPatient};
 use crate::trajectory::{Sample, SolverStats, Trajectory};
 use diffsol::{
-    Bdf, BdfState, Closure, ConstantClosure, NalgebraLU, NalgebraMat, NalgebraVec, NonLinearOp,
-    OdeBuilder, OdeEquations, OdeSolverEquations, OdeSolverMethod, OdeSolverProblem,
-    OdeSolverState, OdeSolverStopReason, Op, UnitCallable, Vector,
+    Bdf, BdfState, Closure, ConstantClosure, NalgebraMat, NalgebraVec, NonLinearOp, OdeBuilder,
+    OdeEquations, OdeSolverEquations, OdeSolverMethod, OdeSolverProblem, OdeSolverState,
+    OdeSolverStopReason, Op, UnitCallable, Vector, VectorCommon,
 };
 use serde::Serialize;
 use std::cell::RefCell;
@@ -30,7 +30,9 @@ use std::sync::Arc;
 type T = f64;
 type M = NalgebraMat<T>;
 type V = NalgebraVec<T>;
-type LS = NalgebraLU<T>;
+/// Dense LU of the Newton matrix that factorises only the body block (see
+/// [`crate::newton_lu`]).
+type LS = crate::newton_lu::LedgerLu<N_STATES_BODY, { N_STATES - N_STATES_BODY }, N_STATES>;
 type RhsFn = Box<dyn Fn(&[T], &[T], T, &mut [T]) + Send>;
 type JvpFn = Box<dyn Fn(&[T], &[T], T, &[T], &mut [T]) + Send>;
 type InitFn = Box<dyn Fn(&[T], T, &mut [T]) + Send>;
@@ -589,35 +591,55 @@ impl Schedule {
     }
 }
 
-/// The last `(x, p, t, f(x))` evaluated by the Jacobian-vector product.
-type JvpCache = (Vec<T>, Vec<T>, T, Vec<T>);
+/// Working memory of the Jacobian-vector product: the last `(x, p, f(x))`
+/// evaluated, the perturbed state and its rate.
+#[derive(Default)]
+struct JvpWork {
+    x: Vec<T>,
+    p: Vec<T>,
+    fx: Vec<T>,
+    xp: Vec<T>,
+    fp: Vec<T>,
+}
 
 /// Finite-difference Jacobian-vector product with a cache of `f(x)`.
+///
+/// No rate depends on the ledger entries (the states from
+/// [`N_STATES_BODY`] on), so a direction that moves only those has a zero
+/// product, returned without evaluating the model (the difference would
+/// be exactly zero): a Jacobian evaluation costs one model evaluation per
+/// body state, not per state.
 fn make_jvp(model: Arc<Model>) -> JvpFn {
-    let cache: RefCell<JvpCache> = RefCell::new((Vec::new(), Vec::new(), T::NAN, Vec::new()));
-    Box::new(move |x: &[T], p: &[T], t: T, v: &[T], out: &mut [T]| {
+    let work: RefCell<JvpWork> = RefCell::new(JvpWork::default());
+    Box::new(move |x: &[T], p: &[T], _t: T, v: &[T], out: &mut [T]| {
         let mut vn = v.iter().fold(0.0, |m: T, a| m.max(a.abs()));
         if vn == 0.0 && v.iter().any(|a| a.is_nan()) {
             vn = 1.0;
         }
-        if vn == 0.0 {
+        let body_moves = v[..N_STATES_BODY.min(v.len())].iter().any(|a| *a != 0.0);
+        if vn == 0.0 || !body_moves {
             out.iter_mut().for_each(|e| *e = 0.0);
             return;
         }
         let xn = x.iter().fold(0.0, |m: T, a| m.max(a.abs()));
         let eps = T::EPSILON.sqrt() * (1.0 + xn) / vn;
-        let xp: Vec<T> = x.iter().zip(v).map(|(a, b)| a + eps * b).collect();
         let u = Inputs::from_slice(p);
-        let mut fp = vec![0.0; x.len()];
-        model.derivative(&xp, &u, &mut fp);
-        let mut c = cache.borrow_mut();
-        if c.2 != t || c.0 != x || c.1 != p {
-            let mut fx = vec![0.0; x.len()];
-            model.derivative(x, &u, &mut fx);
-            *c = (x.to_vec(), p.to_vec(), t, fx);
+        let mut w = work.borrow_mut();
+        let w = &mut *w;
+        if w.x != x || w.p != p {
+            w.x.clear();
+            w.x.extend_from_slice(x);
+            w.p.clear();
+            w.p.extend_from_slice(p);
+            w.fx.resize(x.len(), 0.0);
+            model.derivative(x, &u, &mut w.fx);
         }
-        for i in 0..out.len() {
-            out[i] = (fp[i] - c.3[i]) / eps;
+        w.xp.clear();
+        w.xp.extend(x.iter().zip(v).map(|(a, b)| a + eps * b));
+        w.fp.resize(x.len(), 0.0);
+        model.derivative(&w.xp, &u, &mut w.fp);
+        for ((o, fp), fx) in out.iter_mut().zip(&w.fp).zip(&w.fx) {
+            *o = (fp - fx) / eps;
         }
     })
 }
@@ -659,7 +681,18 @@ fn build_problem(
             message: e.to_string(),
         })?;
     problem.ode_options.max_number_timesteps = tol.max_steps;
+    // Let the step grow up to 10-fold from one step to the next, as SciPy's
+    // BDF does (diffsol's default is 2). After each restart at an input
+    // change the solver starts at order 1 from a small step, and the error
+    // test, not the growth limit, should decide how fast it gets back to
+    // the step size the solution allows.
+    problem.ode_options.max_timestep_growth = Some(MAX_STEP_GROWTH);
     Ok(problem)
+}
+
+/// The entries of a solver vector, without a copy.
+fn host(v: &V) -> &[T] {
+    v.inner().as_slice()
 }
 
 /// Recompute the derivative and a fresh initial step after a discontinuity.
@@ -669,7 +702,21 @@ fn refresh(problem: &Problem, st: &mut State) {
         problem.eqn.rhs().call_inplace(&*s.y, *s.t, s.dy);
     }
     st.set_step_size(problem.h0, &problem.atol, problem.rtol, &problem.eqn, 1);
+    // The standard estimate (Hairer, Nørsett & Wanner, Solving Ordinary
+    // Differential Equations I, II.4) sizes a first-order step for a local
+    // error of 1 % of the tolerance; that error grows with the square of
+    // the step, so ten times that step aims at the tolerance itself. The
+    // error test still checks the step and cuts it when it is too long.
+    let s = st.as_mut();
+    *s.h *= FIRST_STEP_FACTOR;
 }
+
+/// Largest growth of the step size from one step to the next.
+const MAX_STEP_GROWTH: f64 = 10.0;
+
+/// Factor on the standard first-step estimate after a restart (see
+/// [`refresh`]).
+const FIRST_STEP_FACTOR: f64 = 10.0;
 
 /// A run in preparation: the model, its initial body and the plan.
 #[derive(Debug, Clone)]
@@ -870,7 +917,7 @@ impl Simulation {
                             .step()
                             .map_err(|e| solver_error(solver.state().t, e))?;
                         let now = solver.state().t;
-                        check_negative(&solver.state().y.clone_as_vec(), now, &scales)?;
+                        check_negative(host(solver.state().y), now, &scales)?;
                         // Samples and checks up to `now`, in time order.
                         loop {
                             let ts = grid
@@ -882,12 +929,11 @@ impl Simulation {
                             });
                             let at = |tt: f64| -> Result<Vec<f64>, SimulationError> {
                                 if (tt - now).abs() <= EPS_H {
-                                    Ok(solver.state().y.clone_as_vec())
+                                    Ok(host(solver.state().y).to_vec())
                                 } else {
-                                    Ok(solver
-                                        .interpolate(tt)
-                                        .map_err(|e| solver_error(tt, e))?
-                                        .clone_as_vec())
+                                    let yt =
+                                        solver.interpolate(tt).map_err(|e| solver_error(tt, e))?;
+                                    Ok(host(&yt).to_vec())
                                 }
                             };
                             match (ts, tc) {
@@ -920,7 +966,7 @@ impl Simulation {
                     break true;
                 }
                 t = stop;
-                y = solver.state().y.clone_as_vec();
+                y = host(solver.state().y).to_vec();
                 let new_inputs = self.process(t, &y, &mut schedule, &samples, controller)?;
                 if new_inputs != inputs {
                     inputs = new_inputs;

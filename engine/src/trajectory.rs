@@ -130,10 +130,13 @@ impl Trajectory {
                     end: sp.content(&last.y),
                     intake: sp.cumulative_in(&last.y),
                     output: sp.cumulative_out(&last.y),
-                    max_relative_residual: samples
-                        .iter()
-                        .map(|s| sp.residual(&first.y, &s.y).abs())
-                        .fold(0.0, f64::max),
+                    max_relative_residual: {
+                        let c0 = sp.content(&first.y);
+                        samples
+                            .iter()
+                            .map(|s| sp.residual_from(c0, &s.y).abs())
+                            .fold(0.0, f64::max)
+                    },
                 })
                 .collect(),
             _ => Vec::new(),

@@ -23,7 +23,8 @@ pub fn disposal_mmol_h(
     let g = g_mmol_l.max(0.0);
     let independent = independent_fraction * g * (km_mmol_l + set_point_mmol_l)
         / (set_point_mmol_l * (km_mmol_l + g));
-    let dependent = (1.0 - independent_fraction) * insulin * (g / set_point_mmol_l).powf(gain);
+    let dependent =
+        (1.0 - independent_fraction) * insulin * super::power(g / set_point_mmol_l, gain);
     production_mmol_h * (independent + dependent)
 }
 

@@ -7,7 +7,7 @@
 //! filtered glucose above threshold. Urine flow is solute excretion divided
 //! by urine osmolality.
 
-use super::{smooth_positive, smooth_ramp};
+use super::{power, smooth_positive, smooth_ramp};
 
 /// Osmotically driven plasma vasopressin, pmol/L:
 /// `slope · max(0, P_osm − threshold)`, with a 0.5 mOsm/kg smooth corner.
@@ -19,8 +19,8 @@ pub fn osmotic_vasopressin_pmol_l(plasma_osm: f64, threshold: f64, slope: f64) -
 /// (endogenous vasopressin plus drug equivalents): a Hill curve between
 /// `min` and `max`.
 pub fn urine_osmolality(avp_pmol_l: f64, min: f64, max: f64, half_pmol_l: f64, hill: f64) -> f64 {
-    let a = avp_pmol_l.max(0.0).powf(hill);
-    min + (max - min) * a / (a + half_pmol_l.powf(hill))
+    let a = power(avp_pmol_l.max(0.0), hill);
+    min + (max - min) * a / (a + power(half_pmol_l, hill))
 }
 
 /// Maximal urine osmolality at a given age: declines linearly after 30
@@ -78,7 +78,7 @@ pub fn sodium_excretion_mmol_h(base: f64, gain: f64, relative_ecf_change: f64, m
 /// Potassium excretion (mmol/h): the resting rate scaled by
 /// `(K/K₀)^exponent`.
 pub fn potassium_excretion_mmol_h(base: f64, k: f64, k0: f64, exponent: f64) -> f64 {
-    base * (k.max(0.0) / k0).powf(exponent)
+    base * power(k.max(0.0) / k0, exponent)
 }
 
 /// Glucose excretion (mmol/h): filtered glucose above the renal threshold

@@ -256,6 +256,14 @@ impl<const N_BODY: usize, const NL: usize, const N: usize> LedgerLu<N_BODY, NL, 
         })
     }
 
+    /// The factors of the whole matrix, when they exist and are regular.
+    fn regular_full(&self) -> Result<&Factors<N>, LaError> {
+        self.full
+            .as_ref()
+            .filter(|f| f.regular)
+            .ok_or_else(singular)
+    }
+
     fn solve_slice(&self, b: &mut [T]) -> Result<(), LaError> {
         if self.ledger_shape {
             if !self.body.regular {
@@ -267,11 +275,7 @@ impl<const N_BODY: usize, const NL: usize, const N: usize> LedgerLu<N_BODY, NL, 
             let x_ledger: &mut [T; NL] = x_ledger.try_into().expect("ledger entries");
             sub_coupling::<NL>(&self.coupling, x_body, x_ledger);
         } else {
-            let full = self
-                .full
-                .as_ref()
-                .filter(|f| f.regular)
-                .ok_or_else(singular)?;
+            let full = self.regular_full()?;
             solve(&full.lu, &full.piv, leading::<N>(b));
         }
         if b.iter().all(|x| x.is_finite()) {
@@ -338,11 +342,7 @@ impl<const N_BODY: usize, const NL: usize, const N: usize> LinearSolver<M>
             }
             solve_transpose(&self.body.lu, &self.body.piv, leading::<N_BODY>(b));
         } else {
-            let full = self
-                .full
-                .as_ref()
-                .filter(|f| f.regular)
-                .ok_or_else(singular)?;
+            let full = self.regular_full()?;
             solve_transpose(&full.lu, &full.piv, leading::<N>(b));
         }
         Ok(())

@@ -255,57 +255,63 @@ fn wrong(
     ))
 }
 
+/// Argument `what` of `word` as a value of type `T`, or an error naming
+/// what was `expected` and what was given.
+fn arg_typed<T: Clone + 'static>(
+    ctx: &NativeCallContext,
+    word: &str,
+    what: &str,
+    d: &Dynamic,
+    expected: &str,
+) -> Res<T> {
+    d.clone()
+        .try_cast::<T>()
+        .ok_or_else(|| wrong(ctx, word, what, expected, d))
+}
+
 pub(crate) fn arg_duration(
     ctx: &NativeCallContext,
     word: &str,
     what: &str,
     d: &Dynamic,
 ) -> Res<Duration> {
-    d.clone().try_cast::<Duration>().ok_or_else(|| {
-        wrong(
-            ctx,
-            word,
-            what,
-            "a duration such as minutes(20), hours(2) or days(1)",
-            d,
-        )
-    })
+    arg_typed(
+        ctx,
+        word,
+        what,
+        d,
+        "a duration such as minutes(20), hours(2) or days(1)",
+    )
 }
 
 fn arg_volume(ctx: &NativeCallContext, word: &str, what: &str, d: &Dynamic) -> Res<Volume> {
-    d.clone().try_cast::<Volume>().ok_or_else(|| {
-        wrong(
-            ctx,
-            word,
-            what,
-            "a volume such as ml(500), litres(1) or ml_per_kg(20)",
-            d,
-        )
-    })
+    arg_typed(
+        ctx,
+        word,
+        what,
+        d,
+        "a volume such as ml(500), litres(1) or ml_per_kg(20)",
+    )
 }
 
 fn arg_rate(ctx: &NativeCallContext, word: &str, what: &str, d: &Dynamic) -> Res<Rate> {
-    d.clone().try_cast::<Rate>().ok_or_else(|| {
-        wrong(
-            ctx,
-            word,
-            what,
-            "a rate such as ml_per_h(80) or ml_per_kg_per_h(1)",
-            d,
-        )
-    })
+    arg_typed(
+        ctx,
+        word,
+        what,
+        d,
+        "a rate such as ml_per_h(80) or ml_per_kg_per_h(1)",
+    )
 }
 
 fn arg_amount(ctx: &NativeCallContext, word: &str, what: &str, d: &Dynamic) -> Res<Amount> {
-    d.clone().try_cast::<Amount>().ok_or_else(|| {
-        wrong(
-            ctx,
-            word,
-            what,
-            "an amount such as mmol(40), grams(9), mg(40) or micrograms(2)",
-            d,
-        )
-    })
+    arg_typed(
+        ctx,
+        word,
+        what,
+        d,
+        "an amount such as mmol(40), grams(9), mg(40) or micrograms(2)",
+    )
 }
 
 pub(crate) fn arg_number(ctx: &NativeCallContext, word: &str, what: &str, d: &Dynamic) -> Res<f64> {

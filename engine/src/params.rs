@@ -167,6 +167,7 @@ parameters! {
     thiazide_na_mmol_h: 3.0, [0.0, 50.0], "mmol/h", "Extra sodium excretion at full thiazide effect", "(M)";
     thiazide_k_mmol_h: 1.5, [0.0, 50.0], "mmol/h", "Extra potassium excretion at full thiazide effect", "(M)";
     ckd_gfr_ml_min: 60.0, [10.0, 120.0], "mL/min", "GFR below which the concentrating and diluting range narrows in proportion", "(M)";
+    food_water_l_day: 0.7, [0.0, 3.0], "L/day", "Water eaten in food, part of the habitual intake; a fluid restriction limits drinks and leaves it", "from memory: textbook adult water-balance tables give ~0.7-1.0 L/day of water in food (M)";
     habitual_water_l_day: 0.0, [0.0, 30.0], "L/day", "Habitual water intake (0: whatever balances output at the start)", "patient state";
     thirst_enabled: 0.0, [0.0, 1.0], "1", "1 = the patient drinks when thirsty; 0 = drinks only what the scenario gives", "model switch";
     thirst_threshold_mosm_kg: 298.0, [280.0, 320.0], "mOsm/kg", "Plasma osmolality at which thirst begins", "Baylis & Robertson, J R Soc Med 1980";

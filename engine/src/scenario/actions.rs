@@ -71,8 +71,9 @@ pub enum ActionSpec {
         /// Urea, grams.
         urea_g: f64,
     },
-    /// Fluid restriction: habitual drinking stops, food (salt, potassium)
-    /// goes on, and a daily allowance of water is drunk evenly.
+    /// Fluid restriction: habitual drinking stops, food (salt, potassium
+    /// and the water in it, `food_water_l_day`) goes on, and a daily
+    /// allowance of water is drunk evenly.
     Restrict {
         /// Allowance per day, L.
         litres_per_day: f64,
@@ -164,7 +165,12 @@ impl ActionSpec {
             } => Stream::tablets(*na_mmol, *k_mmol, *urea_g)?,
             ActionSpec::Restrict { litres_per_day } => {
                 let mut out = vec![Action::Stop("habitual".into())];
+                // Meals go on: their salt, potassium and the water in the
+                // food (never more than the habitual intake held).
+                let food_water_l_h =
+                    (ctx.params.food_water_l_day / 24.0).min(ctx.habitual.water_in_l_h);
                 let diet = Inputs {
+                    water_in_l_h: food_water_l_h,
                     na_in_mmol_h: ctx.habitual.na_in_mmol_h,
                     k_in_mmol_h: ctx.habitual.k_in_mmol_h,
                     ..Default::default()

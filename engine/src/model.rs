@@ -114,7 +114,12 @@ pub struct Inputs {
 impl Inputs {
     /// Flatten into the solver's parameter vector.
     pub fn to_vec(&self) -> Vec<f64> {
-        vec![
+        self.to_array().to_vec()
+    }
+
+    /// The rates in the solver's parameter order, without allocating.
+    pub fn to_array(&self) -> [f64; N_INPUTS] {
+        [
             self.water_in_l_h,
             self.na_in_mmol_h,
             self.k_in_mmol_h,
@@ -162,8 +167,10 @@ impl Inputs {
 
     /// Sum of two sets of inputs.
     pub fn plus(&self, o: &Inputs) -> Inputs {
-        let (a, b) = (self.to_vec(), o.to_vec());
-        let s: Vec<f64> = a.iter().zip(b.iter()).map(|(x, y)| x + y).collect();
+        let (mut s, b) = (self.to_array(), o.to_array());
+        for (x, y) in s.iter_mut().zip(b) {
+            *x += y;
+        }
         let mut sum = Inputs::from_slice(&s);
         // Drug effects do not add beyond full effect.
         sum.loop_diuretic_effect = sum.loop_diuretic_effect.min(1.0);

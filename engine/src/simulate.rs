@@ -321,8 +321,8 @@ pub struct Snapshot {
     pub na_change_24h: f64,
     /// Change over the trailing 48 h, mmol/L.
     pub na_change_48h: f64,
-    /// Labels of the streams running now.
-    pub running: Vec<String>,
+    /// Labels of the streams running now (shared: rules read them often).
+    pub running: Arc<[String]>,
 }
 
 /// A protocol that looks at the labs at check times and may change the
@@ -513,6 +513,8 @@ struct Schedule {
     running: Vec<Running>,
     check_every_h: Option<f64>,
     next_check_h: f64,
+    /// Labels of `running`, kept until the running streams change.
+    labels: Option<Arc<[String]>>,
 }
 
 const EPS_H: f64 = 1e-9;
@@ -531,10 +533,12 @@ impl Schedule {
             } else {
                 f64::INFINITY
             },
+            labels: None,
         }
     }
 
     fn apply(&mut self, t: f64, action: Action) {
+        self.labels = None;
         match action {
             Action::Start(stream) => {
                 let end_h = stream.duration_h.map_or(f64::INFINITY, |d| t + d);
@@ -547,7 +551,11 @@ impl Schedule {
 
     /// Apply everything due at time `t`; returns whether a check is due.
     fn advance_to(&mut self, t: f64) -> bool {
+        let before = self.running.len();
         self.running.retain(|r| r.end_h > t + EPS_H);
+        if self.running.len() != before {
+            self.labels = None;
+        }
         while self.next_event < self.events.len()
             && self.events[self.next_event].time_h <= t + EPS_H
         {
@@ -583,11 +591,15 @@ impl Schedule {
             .fold(Inputs::default(), |acc, r| acc.plus(&r.stream.rates))
     }
 
-    fn labels(&self) -> Vec<String> {
-        self.running
-            .iter()
-            .map(|r| r.stream.label.clone())
-            .collect()
+    fn labels(&mut self) -> Arc<[String]> {
+        self.labels
+            .get_or_insert_with(|| {
+                self.running
+                    .iter()
+                    .map(|r| r.stream.label.clone())
+                    .collect()
+            })
+            .clone()
     }
 }
 
@@ -875,6 +887,9 @@ impl Simulation {
         // Events and the first check at t = 0.
         let mut t = 0.0;
         let mut y = self.initial.y.clone();
+        // Working buffers for states read between steps.
+        let mut ybuf = y.clone();
+        let mut vbuf = V::from_vec(y.clone(), ctx);
         let mut inputs = self.process(0.0, &y, &mut schedule, &samples, controller)?;
         let mut state = problem
             .bdf_state::<LS>()
@@ -927,29 +942,44 @@ impl Simulation {
                             let tc = Some(schedule.next_check_h).filter(|&tc| {
                                 tc <= now + EPS_H && tc < stop - EPS_H && tc > t + EPS_H
                             });
-                            let at = |tt: f64| -> Result<Vec<f64>, SimulationError> {
+                            // The state at `tt` into `ybuf`: the step's end, the
+                            // sample just taken at that time, or interpolated.
+                            let mut at = |tt: f64, samples: &[Sample]| {
                                 if (tt - now).abs() <= EPS_H {
-                                    Ok(host(solver.state().y).to_vec())
-                                } else {
-                                    let yt =
-                                        solver.interpolate(tt).map_err(|e| solver_error(tt, e))?;
-                                    Ok(host(&yt).to_vec())
+                                    ybuf.copy_from_slice(host(solver.state().y));
+                                    return Ok(());
                                 }
+                                if let Some(last) =
+                                    samples.last().filter(|s| (s.time_h - tt).abs() <= EPS_H)
+                                {
+                                    ybuf.copy_from_slice(&last.y);
+                                    return Ok(());
+                                }
+                                solver
+                                    .interpolate_inplace(tt, &mut vbuf)
+                                    .map_err(|e| solver_error(tt, e))?;
+                                ybuf.copy_from_slice(host(&vbuf));
+                                Ok::<(), SimulationError>(())
                             };
                             match (ts, tc) {
                                 (Some(ts), tc) if tc.is_none_or(|tc| ts <= tc + EPS_H) => {
-                                    let ys = at(ts)?;
-                                    check_negative(&ys, ts, &scales)?;
-                                    take(&mut samples, ts, ys, &inputs);
+                                    at(ts, &samples)?;
+                                    check_negative(&ybuf, ts, &scales)?;
+                                    take(&mut samples, ts, ybuf.clone(), &inputs);
                                     next_sample += 1;
                                 }
                                 (_, Some(tc)) => {
-                                    let yc = at(tc)?;
-                                    let new_inputs =
-                                        self.process(tc, &yc, &mut schedule, &samples, controller)?;
+                                    at(tc, &samples)?;
+                                    let new_inputs = self.process(
+                                        tc,
+                                        &ybuf,
+                                        &mut schedule,
+                                        &samples,
+                                        controller,
+                                    )?;
                                     if new_inputs != inputs {
                                         inputs = new_inputs;
-                                        rewind = Some((tc, yc));
+                                        rewind = Some((tc, ybuf.clone()));
                                         break 'steps;
                                     }
                                 }
@@ -1016,7 +1046,14 @@ impl Simulation {
     ) -> Result<Inputs, SimulationError> {
         if schedule.advance_to(t) {
             let inputs = schedule.inputs();
-            let obs = self.model.observe(y, &inputs);
+            // A sample taken at this moment under these inputs has the
+            // observation already.
+            let obs = match samples.last() {
+                Some(last) if (t - last.time_h).abs() <= EPS_H && last.inputs == inputs => {
+                    last.obs.clone()
+                }
+                _ => self.model.observe(y, &inputs),
+            };
             // Sodium now, at the start and back in time, read off the samples
             // taken so far (no copies: checks can be frequent).
             let na_now = match samples.last() {

@@ -57,6 +57,8 @@ impl sweep::Progress for BarProgress {
 
 struct ScenarioRunner {
     scenario: Scenario,
+    /// The spec's solver tolerance, if it sets one.
+    rtol: Option<f64>,
 }
 
 impl MemberRunner for ScenarioRunner {
@@ -77,6 +79,9 @@ impl MemberRunner for ScenarioRunner {
         };
         let mut plan = scenario.plan().clone();
         sweep::apply_overrides(&mut plan, overrides)?;
+        if let Some(rtol) = self.rtol {
+            plan.tolerances.rtol = rtol;
+        }
         scenario
             .run_with_plan(plan)
             .map(|r| r.trajectory)
@@ -173,7 +178,10 @@ pub fn sweep_command(args: SweepArgs, style: crate::options::Style) -> Result<()
         threads,
         || {
             Scenario::load(&script)
-                .map(|scenario| ScenarioRunner { scenario })
+                .map(|scenario| ScenarioRunner {
+                    scenario,
+                    rtol: spec.rtol,
+                })
                 .map_err(|e| e.to_string())
         },
         &progress,

@@ -39,14 +39,24 @@ fn spec(dir: &Path, members: usize, keep_rtol: bool) -> PathBuf {
         })
         .collect::<Vec<_>>()
         .join("\n");
-    let path = dir.join(if keep_rtol { "loose.yaml" } else { "tight.yaml" });
+    let path = dir.join(if keep_rtol {
+        "loose.yaml"
+    } else {
+        "tight.yaml"
+    });
     std::fs::write(&path, text).unwrap();
     path
 }
 
 fn run(spec: &Path, out: &Path) -> Vec<Vec<String>> {
     let status = Command::new(bin())
-        .args(["sweep", spec.to_str().unwrap(), "--summary", "false", "--out"])
+        .args([
+            "sweep",
+            spec.to_str().unwrap(),
+            "--summary",
+            "false",
+            "--out",
+        ])
         .arg(out)
         .stderr(Stdio::null())
         .status()

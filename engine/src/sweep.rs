@@ -339,6 +339,12 @@ pub struct SweepSpec {
     /// Share of members (0–1) whose mass balance is checked.
     #[serde(default = "default_balance_share")]
     pub check_balance_share: f64,
+    /// Relative tolerance of the solver for every member (default: the
+    /// engine's, [`crate::simulate::Tolerances::default`]). A sweep over
+    /// uncertain parameters rarely needs sodium to 1e-6: a looser tolerance
+    /// buys members per second.
+    #[serde(default)]
+    pub rtol: Option<f64>,
 }
 
 fn default_balance_share() -> f64 {
@@ -462,6 +468,14 @@ impl SweepSpec {
                         "members: give the number of members (> 0)".into(),
                     ));
                 }
+            }
+        }
+        if let Some(rtol) = self.rtol {
+            if !(1e-10..=1e-2).contains(&rtol) {
+                return Err(spec_error(
+                    file,
+                    format!("rtol: {rtol} is outside 1e-10..=1e-2"),
+                ));
             }
         }
         if !(0.0..=1.0).contains(&self.check_balance_share) {
@@ -1452,6 +1466,10 @@ mod tests {
             .unwrap_err()
             .to_string();
         assert!(err.contains("x.yaml:6") && err.contains("rnage"), "{err}");
+        let err = SweepSpec::from_yaml("scenario: b\ndesign: random\nmembers: 5\nrtol: 0.5\nparameters:\n  - name: gfr_ml_min\n    range: [1, 2]\n", "x.yaml")
+            .unwrap_err()
+            .to_string();
+        assert!(err.contains("x.yaml") && err.contains("rtol"), "{err}");
     }
 
     #[test]

@@ -1050,7 +1050,7 @@ impl Simulation {
             // observation already.
             let obs = match samples.last() {
                 Some(last) if (t - last.time_h).abs() <= EPS_H && last.inputs == inputs => {
-                    last.obs.clone()
+                    last.obs
                 }
                 _ => self.model.observe(y, &inputs),
             };

@@ -106,6 +106,37 @@ pub fn trailing_change(times: &[f64], values: &[f64], j: usize, window_h: f64) -
     values[j] - interpolate(&times[..=j], &values[..=j], from)
 }
 
+/// [`trailing_change`] at every sample, in one pass: the window's start
+/// only moves forward, so its place among the samples is found by walking
+/// rather than by a search per sample. Same values, bit for bit.
+pub fn trailing_changes(times: &[f64], values: &[f64], window_h: f64) -> Vec<f64> {
+    let mut out = Vec::with_capacity(times.len());
+    // First sample at or after the window's start.
+    let mut k = 0usize;
+    for j in 0..times.len() {
+        let from = (times[j] - window_h).max(times[0]);
+        if from <= times[0] {
+            out.push(values[j] - values[0]);
+            continue;
+        }
+        while k <= j && times[k] < from {
+            k += 1;
+        }
+        let back = if k > j {
+            values[j]
+        } else {
+            let (t0, t1) = (times[k - 1], times[k]);
+            if t1 - t0 <= 0.0 {
+                values[k]
+            } else {
+                values[k - 1] + (values[k] - values[k - 1]) * (from - t0) / (t1 - t0)
+            }
+        };
+        out.push(values[j] - back);
+    }
+    out
+}
+
 impl Trajectory {
     /// Assemble the derived series from samples.
     pub fn from_samples(samples: Vec<Sample>, limits: LimitChoice, stats: SolverStats) -> Self {
@@ -113,12 +144,8 @@ impl Trajectory {
         let na: Vec<f64> = samples.iter().map(|s| s.obs.na_mmol_l).collect();
         let na0 = na.first().copied().unwrap_or(f64::NAN);
         let since: Vec<f64> = na.iter().map(|x| x - na0).collect();
-        let c24 = (0..na.len())
-            .map(|j| trailing_change(&times, &na, j, 24.0))
-            .collect();
-        let c48 = (0..na.len())
-            .map(|j| trailing_change(&times, &na, j, 48.0))
-            .collect();
+        let c24 = trailing_changes(&times, &na, 24.0);
+        let c48 = trailing_changes(&times, &na, 48.0);
         let flags = limits::check(&times, &na, &limits);
         let balance = match (samples.first(), samples.last()) {
             (Some(first), Some(last)) if first.y.len() == N_STATES => Species::ALL
@@ -212,6 +239,30 @@ impl Trajectory {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn trailing_changes_in_one_pass_equal_the_searched_ones() {
+        // Uneven times with a repeated one (a sample at a restart).
+        let mut t: Vec<f64> = vec![0.0];
+        for i in 1..400 {
+            let dt = [0.25, 0.5, 1.0 / 12.0, 0.0][i % 4];
+            t.push(t[i - 1] + dt);
+        }
+        let v: Vec<f64> = t
+            .iter()
+            .map(|x: &f64| 120.0 + (x * 0.7).sin() + 0.1 * x)
+            .collect();
+        for w in [0.3, 6.0, 24.0, 48.0, 1e3] {
+            let fast = trailing_changes(&t, &v, w);
+            for j in 0..t.len() {
+                assert_eq!(
+                    fast[j],
+                    trailing_change(&t, &v, j, w),
+                    "window {w}, sample {j}"
+                );
+            }
+        }
+    }
 
     #[test]
     fn interpolation_and_trailing_change() {

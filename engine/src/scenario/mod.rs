@@ -86,7 +86,9 @@ pub struct Scenario {
     build: BuildContext,
     rules: Vec<RuleDef>,
     expectations: Vec<Expectation>,
-    engine: Engine,
+    /// The sandboxed engine, shared with the scenarios reloaded from this
+    /// one (its words act on `state`, `log` and `clock`, which they share).
+    engine: Rc<Engine>,
     ast: AST,
     state: Shared,
     load_log: Vec<String>,
@@ -392,13 +394,31 @@ impl Scenario {
         source: &str,
         base_dir: &Path,
         settings: &[(String, f64)],
-        compiled: Option<AST>,
+        compiled: Option<Reuse>,
     ) -> Result<Scenario, ScenarioError> {
-        let state: Shared = Rc::new(RefCell::new(State::new(base_dir)));
+        let (engine, state, log, clock, compiled) = match compiled {
+            // Registering the words is a good part of a load: a reload keeps
+            // the engine and empties what its words act on.
+            Some(r) => {
+                *r.state.borrow_mut() = State::new(base_dir);
+                r.log.borrow_mut().clear();
+                r.clock.set(None);
+                (r.engine, r.state, r.log, r.clock, Some(r.ast))
+            }
+            None => {
+                let state: Shared = Rc::new(RefCell::new(State::new(base_dir)));
+                let log = Rc::new(RefCell::new(Vec::new()));
+                let clock = Rc::new(Cell::new(None));
+                let engine = Rc::new(sandboxed_engine(
+                    &state,
+                    Rc::from(source),
+                    log.clone(),
+                    clock.clone(),
+                ));
+                (engine, state, log, clock, None)
+            }
+        };
         state.borrow_mut().settings = settings.iter().cloned().collect();
-        let log = Rc::new(RefCell::new(Vec::new()));
-        let clock = Rc::new(Cell::new(None));
-        let engine = sandboxed_engine(&state, Rc::from(source), log.clone(), clock.clone());
         let ast = match compiled {
             Some(ast) => ast,
             None => engine.compile(source).map_err(|e| {
@@ -516,7 +536,13 @@ impl Scenario {
             &self.source,
             &self.base_dir,
             settings,
-            Some(self.ast.clone()),
+            Some(Reuse {
+                engine: self.engine.clone(),
+                state: self.state.clone(),
+                log: self.log.clone(),
+                clock: self.clock.clone(),
+                ast: self.ast.clone(),
+            }),
         )?;
         s.path.clone_from(&self.path);
         Ok(s)
@@ -593,6 +619,16 @@ impl Scenario {
             log,
         })
     }
+}
+
+/// What a reload takes over from the scenario it reloads: the engine with
+/// its words, what the words act on, and the compiled script.
+struct Reuse {
+    engine: Rc<Engine>,
+    state: Shared,
+    log: Rc<RefCell<Vec<String>>>,
+    clock: Rc<Cell<Option<Instant>>>,
+    ast: AST,
 }
 
 fn gcd(a: u64, b: u64) -> u64 {
@@ -848,5 +884,17 @@ mod rerun_tests {
         let a = s.run().unwrap();
         let b = s.run().unwrap();
         assert_eq!(a.trajectory.sodium(), b.trajectory.sodium());
+        // Reloads share the engine with the scenario they came from: runs
+        // of either, in any order, stay independent, logs included.
+        let r1 = s.reloaded(&[]).unwrap();
+        let r2 = r1.reloaded(&[]).unwrap();
+        let c = r2.run().unwrap();
+        let d = s.run().unwrap();
+        let e = r1.run().unwrap();
+        for run in [&c, &d, &e] {
+            assert_eq!(a.trajectory.sodium(), run.trajectory.sodium());
+            assert_eq!(a.log, run.log);
+        }
+        assert!(a.log.iter().any(|l| l.contains("stop drip")), "{:?}", a.log);
     }
 }

@@ -1049,9 +1049,7 @@ impl Simulation {
             // A sample taken at this moment under these inputs has the
             // observation already.
             let obs = match samples.last() {
-                Some(last) if (t - last.time_h).abs() <= EPS_H && last.inputs == inputs => {
-                    last.obs
-                }
+                Some(last) if (t - last.time_h).abs() <= EPS_H && last.inputs == inputs => last.obs,
                 _ => self.model.observe(y, &inputs),
             };
             // Sodium now, at the start and back in time, read off the samples

@@ -254,12 +254,8 @@ mod tests {
             .collect();
         for w in [0.3, 6.0, 24.0, 48.0, 1e3] {
             let fast = trailing_changes(&t, &v, w);
-            for j in 0..t.len() {
-                assert_eq!(
-                    fast[j],
-                    trailing_change(&t, &v, j, w),
-                    "window {w}, sample {j}"
-                );
+            for (j, f) in fast.iter().enumerate() {
+                assert_eq!(*f, trailing_change(&t, &v, j, w), "window {w}, sample {j}");
             }
         }
     }

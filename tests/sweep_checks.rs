@@ -127,6 +127,12 @@ fn summary_gives_bands_probabilities_and_a_sensible_ranking() {
         (0.0..=1.0).contains(&s.p_limit) && s.p_limit > 0.0,
         "the overcorrection case crosses limits"
     );
+    // Per rule: the run lasts 24 h, so of the European rules only the
+    // first-24-h rise limit (rule 1) can be crossed, by exactly the members
+    // that crossed any limit.
+    let rule_1 = s.p_by_rule.get(&1).copied().unwrap_or(0.0);
+    assert_eq!(rule_1, s.p_limit, "{:?}", s.p_by_rule);
+    assert!(s.p_by_rule.keys().all(|k| *k == 1), "{:?}", s.p_by_rule);
     // Mass balance on the checked share of members.
     assert!(s.balance_checked > 0 && s.max_balance_residual < 1e-6);
     // Body size drives the 24 h rise far more than a drug half-life that

@@ -7,6 +7,7 @@ use anyhow::{bail, Context, Result};
 use clap::Args;
 use plotters::prelude::*;
 use std::path::{Path, PathBuf};
+use tidewater::limits::{Direction, LimitChoice, Rule, Severity};
 use tidewater::scenario::Scenario;
 use tidewater::sweep::{self, MemberRunner, Shard, Summary, SweepSpec};
 use tidewater::Trajectory;
@@ -153,10 +154,11 @@ pub fn sweep_command(args: SweepArgs, style: crate::options::Style) -> Result<()
         .filter(|i| shard.contains(*i))
         .count();
     eprintln!(
-        "sweep: {} members ({} in this shard) of {} on {threads} threads -> {}",
+        "sweep: {} members ({} in this shard) of {} on {threads} thread{} -> {}",
         spec.member_count(),
         total,
         script.display(),
+        if threads == 1 { "" } else { "s" },
         out.display()
     );
     let bar = crate::progress::bar(total as u64, "members", style);
@@ -193,7 +195,7 @@ pub fn sweep_command(args: SweepArgs, style: crate::options::Style) -> Result<()
         ran as f64 / secs.max(1e-9)
     );
     if args.summary && shard.count == 1 {
-        write_summary(&spec, &out)?;
+        write_summary(&spec, &out, &scenario.plan().limits)?;
     }
     Ok(())
 }
@@ -207,19 +209,61 @@ pub fn merge_command(args: MergeArgs) -> Result<()> {
         let text = std::fs::read_to_string(spec_path)
             .with_context(|| format!("cannot read {}", spec_path.display()))?;
         let spec = SweepSpec::from_yaml(&text, &spec_path.display().to_string())?;
-        write_summary(&spec, &args.out)?;
+        // The scenario names the guideline set whose rules the rows count.
+        let script = spec_path
+            .parent()
+            .unwrap_or(Path::new("."))
+            .join(&spec.scenario);
+        let scenario = Scenario::load(&script).map_err(|e| anyhow::anyhow!("{e}"))?;
+        write_summary(&spec, &args.out, &scenario.plan().limits)?;
     }
     Ok(())
 }
 
-fn write_summary(spec: &SweepSpec, results: &Path) -> Result<()> {
+fn write_summary(spec: &SweepSpec, results: &Path, limits: &LimitChoice) -> Result<()> {
     let summary = Summary::from_file(spec, results)?;
     let dir = results.parent().unwrap_or(Path::new("."));
+    // Every rule of the set, with the share of members that crossed it
+    // (0 when none did).
+    let by_rule: Vec<(usize, &Rule, f64)> = limits
+        .rules()
+        .iter()
+        .enumerate()
+        .map(|(i, r)| {
+            (
+                i + 1,
+                r,
+                summary.p_by_rule.get(&(i + 1)).copied().unwrap_or(0.0),
+            )
+        })
+        .collect();
+    if let Some(k) = summary
+        .p_by_rule
+        .keys()
+        .find(|k| **k == 0 || **k > by_rule.len())
+    {
+        bail!(
+            "{}: column limits_crossed names rule {k}, but {} has {} rules: was the file written for another scenario?",
+            results.display(),
+            limits.guideline.id,
+            by_rule.len()
+        );
+    }
     let json = serde_json::json!({
         "members": summary.members,
         "failed": summary.failed,
         "probability_limit_crossed": summary.p_limit,
         "probability_caution_crossed": summary.p_caution,
+        "guideline": { "id": limits.guideline.id, "source": limits.guideline.source, "high_risk": limits.high_risk },
+        "probability_by_limit": by_rule.iter().map(|(k, r, p)| serde_json::json!({
+            "rule": k,
+            "label": r.label,
+            "severity": r.severity,
+            "direction": r.direction,
+            "max_mmol_l": r.max_mmol_l,
+            "window_h": r.window_h,
+            "probability": p,
+        })).collect::<Vec<_>>(),
         "sodium_percentiles": summary.band_times_h.iter().zip(summary.bands.iter()).map(|(t, b)| serde_json::json!({
             "time_h": t, "p5": b[0], "p25": b[1], "p50": b[2], "p75": b[3], "p95": b[4]
         })).collect::<Vec<_>>(),
@@ -237,6 +281,25 @@ fn write_summary(spec: &SweepSpec, results: &Path) -> Result<()> {
         "{}\t{}\t{:.3}\t{:.3}",
         summary.members, summary.failed, summary.p_limit, summary.p_caution
     );
+    println!(
+        "limit of {}{}\tP(crossed)",
+        limits.guideline.id,
+        if limits.high_risk { " (high risk)" } else { "" }
+    );
+    for (k, r, p) in &by_rule {
+        let change = match r.direction {
+            Direction::Rise => "rise",
+            Direction::Fall => "fall",
+        };
+        let severity = match r.severity {
+            Severity::Limit => "limit",
+            Severity::Caution => "caution",
+        };
+        println!(
+            "{k}. {} ({change} <= {} mmol/L in {} h, {severity})\t{p:.3}",
+            r.label, r.max_mmol_l, r.window_h
+        );
+    }
     println!("parameter\trank correlation with the largest 24 h rise");
     for (n, r) in &summary.sensitivity {
         println!("{n}\t{r:+.3}");

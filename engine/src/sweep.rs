@@ -777,6 +777,7 @@ pub fn result_header(spec: &SweepSpec, duration_h: f64) -> Vec<String> {
     if spec.outputs.flags {
         h.push("limit_crossed".into());
         h.push("caution_crossed".into());
+        h.push("limits_crossed".into());
     }
     h.push("balance_residual".into());
     for t in band_times(spec, duration_h) {
@@ -864,6 +865,17 @@ pub fn result_row(
                     .any(|f| f.rule.severity == Severity::Caution);
                 cells.push(u8::from(limit).to_string());
                 cells.push(u8::from(caution).to_string());
+                // Which rules of the scenario's guideline set were crossed:
+                // their numbers (1-based, in the set's order), space-separated.
+                let crossed: Vec<String> = traj
+                    .limits
+                    .rules()
+                    .iter()
+                    .enumerate()
+                    .filter(|(_, r)| traj.flags.iter().any(|f| f.rule == **r))
+                    .map(|(i, _)| (i + 1).to_string())
+                    .collect();
+                cells.push(crossed.join(" "));
             }
             cells.push(if checks_balance(spec, member.index) {
                 format!("{:.3e}", traj.max_balance_residual())
@@ -1222,6 +1234,10 @@ pub struct Summary {
     pub p_limit: f64,
     /// Share of members crossing a caution edge.
     pub p_caution: f64,
+    /// Share of members crossing each rule of the scenario's guideline set,
+    /// by rule number (1-based, in the set's order); rules no member
+    /// crossed are absent.
+    pub p_by_rule: std::collections::BTreeMap<usize, f64>,
     /// Parameters ranked by |correlation| of their value's rank with the
     /// largest 24 h rise: (name, correlation).
     pub sensitivity: Vec<(String, f64)>,
@@ -1260,13 +1276,15 @@ impl Summary {
             .iter()
             .map(|_| Histogram::new(80.0, 200.0, 0.02))
             .collect();
-        let (status, limit, caution, rise, balance) = (
+        let (status, limit, caution, rise, balance, by_rule) = (
             col("status"),
             col("limit_crossed"),
             col("caution_crossed"),
             col("largest_rise_24h"),
             col("balance_residual"),
+            col("limits_crossed"),
         );
+        let mut n_by_rule: std::collections::BTreeMap<usize, usize> = Default::default();
         let mut moments: Vec<Moments> = vec![Moments::default(); spec.parameters.len()];
         let (mut members, mut failed, mut n_limit, mut n_caution, mut checked) =
             (0usize, 0usize, 0usize, 0usize, 0usize);
@@ -1315,6 +1333,21 @@ impl Summary {
             if caution.map(|c| cells[c]) == Some("1") {
                 n_caution += 1;
             }
+            if let Some(c) = by_rule {
+                for k in cells[c].split_whitespace() {
+                    let k: usize = k.parse().map_err(|_| {
+                        spec_error(
+                            &name,
+                            format!(
+                                "line {}: \"{}\" is not a list of rule numbers in column limits_crossed",
+                                n + 2,
+                                cells[c]
+                            ),
+                        )
+                    })?;
+                    *n_by_rule.entry(k).or_default() += 1;
+                }
+            }
             if let Some(c) = balance {
                 let r = num(c)?;
                 if r.is_finite() {
@@ -1361,6 +1394,10 @@ impl Summary {
                 .collect(),
             p_limit: n_limit as f64 / ok,
             p_caution: n_caution as f64 / ok,
+            p_by_rule: n_by_rule
+                .into_iter()
+                .map(|(k, n)| (k, n as f64 / ok))
+                .collect(),
             sensitivity,
             max_balance_residual: max_res,
             balance_checked: checked,

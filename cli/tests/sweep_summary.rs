@@ -1,0 +1,73 @@
+//! The sweep summary gives the probability of crossing each limit of the
+//! scenario's guideline set, consistent with the rows of the result file.
+
+use std::path::Path;
+use std::process::Command;
+
+#[test]
+fn summary_lists_every_limit_with_its_probability() {
+    let dir = std::env::temp_dir().join(format!("tidewater-sweep-summary-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("..");
+    let script = root
+        .join("scenarios/severe_chronic_boluses.rhai")
+        .canonicalize()
+        .unwrap();
+    // Body water wide enough that some members overcorrect and some do not.
+    let spec = dir.join("spec.yaml");
+    std::fs::write(
+        &spec,
+        format!(
+            "scenario: {}\ndesign: latin_hypercube\nmembers: 60\nseed: 9\nrtol: 1e-4\nparameters:\n  - name: patient.water_fraction\n    range: [0.33, 0.58]\n",
+            script.display()
+        ),
+    )
+    .unwrap();
+    let out = dir.join("r.csv");
+    let run = Command::new(env!("CARGO_BIN_EXE_tidewater"))
+        .args(["sweep", spec.to_str().unwrap(), "--out"])
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert!(
+        run.status.success(),
+        "{}",
+        String::from_utf8_lossy(&run.stderr)
+    );
+    let stdout = String::from_utf8(run.stdout).unwrap();
+    assert!(
+        stdout.contains("limit of europe-2014 (high risk)")
+            && stdout.contains("1. high risk, any 24 h"),
+        "{stdout}"
+    );
+
+    // Share of rows naming rule 1 in `limits_crossed`.
+    let text = std::fs::read_to_string(&out).unwrap();
+    let mut lines = text.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let col = header.iter().position(|h| *h == "limits_crossed").unwrap();
+    let rows: Vec<Vec<&str>> = lines.map(|l| l.split(',').collect()).collect();
+    let share = rows
+        .iter()
+        .filter(|r| r[col].split_whitespace().any(|k| k == "1"))
+        .count() as f64
+        / rows.len() as f64;
+    assert!(
+        share > 0.0 && share < 1.0,
+        "some members cross, some not: {share}"
+    );
+
+    let json: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.join("summary.json")).unwrap()).unwrap();
+    let by_limit = json["probability_by_limit"].as_array().unwrap();
+    assert_eq!(
+        by_limit.len(),
+        2,
+        "both rules of the high-risk set are listed"
+    );
+    assert_eq!(by_limit[0]["rule"], 1);
+    assert_eq!(by_limit[0]["probability"].as_f64().unwrap(), share);
+    assert_eq!(by_limit[1]["probability"].as_f64().unwrap(), 0.0);
+    assert_eq!(json["probability_limit_crossed"].as_f64().unwrap(), share);
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -82,6 +82,8 @@ impl Cause {
                 params.na_intake_mmol_day = 40.0;
                 params.k_intake_mmol_day = 20.0;
                 params.urea_generation_mmol_kg_day = 2.0;
+                // Little food, so little water in food (M).
+                params.food_water_l_day = 0.3;
             }
             // (M) twelve litres a day.
             Cause::PrimaryPolydipsia => params.habitual_water_l_day = 12.0,

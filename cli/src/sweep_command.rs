@@ -276,6 +276,7 @@ fn write_summary(spec: &SweepSpec, results: &Path, limits: &LimitChoice) -> Resu
         .with_context(|| format!("cannot write {}", path.display()))?;
     fan_chart(&summary, &dir.join("sodium_bands.svg"))?;
     sensitivity_chart(&summary, &dir.join("sensitivity.svg"))?;
+    println!("Caution: {}", tidewater::CAUTION);
     println!("members\tfailed\tP(limit crossed)\tP(caution crossed)");
     println!(
         "{}\t{}\t{:.3}\t{:.3}",
@@ -314,6 +315,7 @@ fn fan_chart(summary: &Summary, path: &Path) -> Result<()> {
     }
     let root = SVGBackend::new(path, (820, 460)).into_drawing_area();
     root.fill(&WHITE)?;
+    let root = crate::report::svg::caution_footer(&root)?;
     let t_max = summary.band_times_h.last().copied().unwrap_or(1.0).max(1.0);
     let lo = summary
         .bands
@@ -406,6 +408,7 @@ fn sensitivity_chart(summary: &Summary, path: &Path) -> Result<()> {
     let n = summary.sensitivity.len();
     let root = SVGBackend::new(path, (820, (120 + 34 * n) as u32)).into_drawing_area();
     root.fill(&WHITE)?;
+    let root = crate::report::svg::caution_footer(&root)?;
     let mut chart = ChartBuilder::on(&root)
         .caption(
             "What drives the largest 24 h rise (rank correlation)",

@@ -105,6 +105,16 @@ fn demo_report_has_the_column_contract() {
         .unwrap()
         .contains("not a medical device"));
     assert_eq!(summary["guideline"]["id"], "europe-2014");
+    // Each chart carries the short caution too (it may be copied alone).
+    for chart in [
+        "sodium.svg",
+        "volumes.svg",
+        "urine.svg",
+        "intake_output.svg",
+    ] {
+        let svg = std::fs::read_to_string(dir.join(chart)).unwrap();
+        assert!(svg.contains("not a medical device"), "{chart}");
+    }
     // Hematocrit is a fraction; serum osmolality at 118 mmol/L sodium with
     // normal glucose and urea is about 2 * 118 + 5 + 5 (the textbook
     // estimate 2 Na + glucose + urea, common practice).

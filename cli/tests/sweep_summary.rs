@@ -35,6 +35,12 @@ fn summary_lists_every_limit_with_its_probability() {
         String::from_utf8_lossy(&run.stderr)
     );
     let stdout = String::from_utf8(run.stdout).unwrap();
+    assert!(stdout.starts_with("Caution: "), "{stdout}");
+    let chart = std::fs::read_to_string(dir.join("sodium_bands.svg")).unwrap();
+    assert!(
+        chart.contains("not a medical device"),
+        "the chart carries the caution"
+    );
     assert!(
         stdout.contains("limit of europe-2014 (high risk)")
             && stdout.contains("1. high risk, any 24 h"),

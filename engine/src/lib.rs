@@ -83,3 +83,6 @@ pub use trajectory::{Sample, SolverStats, Trajectory};
 pub const CAUTION: &str =
     "Tidewater is a simulation for planning and teaching, not a medical device. \
 Defer to local protocols and licensed clinicians, and re-measure serum sodium.";
+
+/// The caution in one short line, for charts that may travel alone.
+pub const CAUTION_SHORT: &str = "Simulation for planning and teaching, not a medical device: defer to local protocols and clinicians; re-measure sodium.";

@@ -60,6 +60,26 @@ const WIDTH: u32 = 920;
 const FONT: &str = "sans-serif";
 const MAX_POINTS: usize = 1200;
 
+/// Height of the caution line under every chart, px.
+const CAUTION_PX: u32 = 18;
+
+/// Write the short caution along the bottom of a chart and return the
+/// area above it, for the chart itself: a chart copied out of its report
+/// still says what it is.
+pub fn caution_footer<DB: DrawingBackend>(
+    root: &DrawingArea<DB, plotters::coord::Shift>,
+) -> Result<DrawingArea<DB, plotters::coord::Shift>> {
+    let (_, height) = root.dim_in_pixel();
+    let (chart, foot) = root.split_vertically(height.saturating_sub(CAUTION_PX));
+    foot.draw(&Text::new(
+        format!("Caution: {}", tidewater::CAUTION_SHORT),
+        (10, 2),
+        (FONT, 11).into_font().color(&RGBColor(96, 100, 108)),
+    ))
+    .map_err(err)?;
+    Ok(chart)
+}
+
 fn err<E: std::fmt::Debug>(e: E) -> anyhow::Error {
     anyhow!("drawing a chart: {e:?}")
 }
@@ -182,6 +202,7 @@ fn sodium_chart(input: &RunInput, summary: &Summary) -> Result<String> {
     {
         let root = SVGBackend::with_string(&mut buf, (WIDTH, 460)).into_drawing_area();
         root.fill(&WHITE).map_err(err)?;
+        let root = caution_footer(&root)?;
         let mut chart = ChartBuilder::on(&root)
             .caption(
                 format!("Serum sodium: {}", input.title),
@@ -333,6 +354,7 @@ fn volume_chart(input: &RunInput) -> Result<String> {
     {
         let root = SVGBackend::with_string(&mut buf, (WIDTH, 460)).into_drawing_area();
         root.fill(&WHITE).map_err(err)?;
+        let root = caution_footer(&root)?;
         let mut chart = ChartBuilder::on(&root)
             .caption(
                 format!("Body water by compartment: {}", input.title),
@@ -469,6 +491,7 @@ fn two_panels(
     {
         let root = SVGBackend::with_string(&mut buf, (WIDTH, 640)).into_drawing_area();
         root.fill(&WHITE).map_err(err)?;
+        let root = caution_footer(&root)?;
         let root = root
             .titled(title, (FONT, 18).into_font().color(&INK))
             .map_err(err)?;

@@ -3,15 +3,16 @@
 //! A [`SweepSpec`] (YAML) names a base scenario, the parameters to vary
 //! (patient fields as `patient.<field>` or engine parameters by name), each
 //! with a fixed list, a range or a distribution, a design (full grid,
-//! random, Latin hypercube), a member count, a seed, and the outputs to
-//! keep. [`SweepSpec::members`] expands it into [`Member`]s
+//! random, Latin hypercube), a member count, a seed, the outputs to keep,
+//! and optionally the solver's relative tolerance for every member. [`SweepSpec::members`] expands it into [`Member`]s
 //! deterministically; [`run_sweep`] runs them on worker threads (one
 //! simulation per member, one [`MemberRunner`] per worker), streams one CSV
 //! row per member in member order, resumes an interrupted output file
 //! without losing or duplicating members, and runs a deterministic shard
 //! (`K/N`) of the members when asked. [`Summary`] reduces a result file to
-//! percentile bands, limit-crossing probabilities and a sensitivity ranking
-//! with memory independent of the member count.
+//! percentile bands, limit-crossing probabilities (any limit, and each rule
+//! of the scenario's guideline set) and a sensitivity ranking with memory
+//! independent of the member count.
 
 use crate::error::InputError;
 use crate::limits::Severity;

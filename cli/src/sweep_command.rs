@@ -147,6 +147,9 @@ pub fn sweep_command(args: SweepArgs, style: crate::options::Style) -> Result<()
                 .with_context(|| format!("cannot create {}", dir.display()))?;
         }
     }
+    // Rows are resumed or merged only with rows of this very spec, script
+    // and engine.
+    sweep::claim_output(&out, &sweep::fingerprint(&spec, scenario.source()))?;
     let threads = args
         .threads
         .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()));

@@ -1064,9 +1064,103 @@ impl<W: Write> OrderedWriter<W> {
     }
 }
 
+// ---------------------------------------------------------------------------
+// Fingerprints: a result file is resumed or merged only with rows of the
+// same spec, scenario and engine
+// ---------------------------------------------------------------------------
+
+/// A stable fingerprint of everything that decides a sweep's rows: the
+/// spec, the base scenario's text and the engine's version (64-bit FNV-1a,
+/// hex). The header alone cannot tell a changed range or seed.
+pub fn fingerprint(spec: &SweepSpec, scenario_source: &str) -> String {
+    let spec_json = serde_json::to_string(spec).unwrap_or_default();
+    let text = format!(
+        "{spec_json}\n{scenario_source}\n{}",
+        env!("CARGO_PKG_VERSION")
+    );
+    let mut h: u64 = 0xcbf2_9ce4_8422_2325;
+    for b in text.bytes() {
+        h ^= u64::from(b);
+        h = h.wrapping_mul(0x0000_0100_0000_01b3);
+    }
+    format!("{h:016x}")
+}
+
+/// The file beside a result file that holds its fingerprint
+/// (`results.csv.fingerprint`).
+pub fn fingerprint_path(out: &Path) -> std::path::PathBuf {
+    let mut name = out.file_name().unwrap_or_default().to_os_string();
+    name.push(".fingerprint");
+    out.with_file_name(name)
+}
+
+fn read_fingerprint(out: &Path) -> Result<Option<String>, InputError> {
+    match std::fs::read_to_string(fingerprint_path(out)) {
+        Ok(t) => Ok(Some(t.trim().to_string())),
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => Ok(None),
+        Err(e) => Err(spec_error(
+            &fingerprint_path(out).display().to_string(),
+            e.to_string(),
+        )),
+    }
+}
+
+/// Before a sweep writes `out`: a new result file gets the fingerprint
+/// beside it; an existing one (a run to resume) must carry the same one,
+/// so that rows of another spec, scenario or engine are never mixed in.
+pub fn claim_output(out: &Path, fingerprint: &str) -> Result<(), InputError> {
+    let name = out.display().to_string();
+    if !out.exists() {
+        return std::fs::write(fingerprint_path(out), format!("{fingerprint}\n"))
+            .map_err(|e| spec_error(&fingerprint_path(out).display().to_string(), e.to_string()));
+    }
+    match read_fingerprint(out)? {
+        Some(f) if f == fingerprint => Ok(()),
+        Some(f) => Err(spec_error(
+            &name,
+            format!(
+                "the existing result file was written for another spec, scenario or engine version (fingerprint {f}, now {fingerprint}): remove it or choose another output"
+            ),
+        )),
+        None => Err(spec_error(
+            &name,
+            format!(
+                "the existing result file has no {} beside it, so it cannot be told to belong to this spec: remove it or choose another output",
+                fingerprint_path(out)
+                    .file_name()
+                    .unwrap_or_default()
+                    .to_string_lossy()
+            ),
+        )),
+    }
+}
+
 /// Join shard result files into one, rows in member order. The result is
-/// byte-identical to an unsharded run of the same spec.
+/// byte-identical to an unsharded run of the same spec. Shards must carry
+/// the same fingerprint (or none of them one); the merged file gets it.
 pub fn merge(inputs: &[&Path], out: &Path) -> Result<usize, InputError> {
+    let mut fingerprints = Vec::with_capacity(inputs.len());
+    for path in inputs {
+        fingerprints.push(read_fingerprint(path)?);
+    }
+    let fingerprint = match fingerprints.first() {
+        Some(first) => {
+            if let Some((path, other)) = inputs.iter().zip(&fingerprints).find(|(_, f)| *f != first)
+            {
+                let show = |f: &Option<String>| f.clone().unwrap_or_else(|| "none".into());
+                return Err(spec_error(
+                    &path.display().to_string(),
+                    format!(
+                        "this shard's fingerprint ({}) differs from the first shard's ({}): the shards come from different specs, scenarios or engine versions",
+                        show(other),
+                        show(first)
+                    ),
+                ));
+            }
+            first.clone()
+        }
+        None => None,
+    };
     let mut header: Option<String> = None;
     let mut rows: BTreeMap<usize, String> = BTreeMap::new();
     for path in inputs {
@@ -1113,6 +1207,17 @@ pub fn merge(inputs: &[&Path], out: &Path) -> Result<usize, InputError> {
         writeln!(w, "{row}").map_err(|e| spec_error(&name, e.to_string()))?;
     }
     w.flush().map_err(|e| spec_error(&name, e.to_string()))?;
+    let side = fingerprint_path(out);
+    match fingerprint {
+        Some(f) => std::fs::write(&side, format!("{f}\n"))
+            .map_err(|e| spec_error(&side.display().to_string(), e.to_string()))?,
+        None => {
+            if side.exists() {
+                std::fs::remove_file(&side)
+                    .map_err(|e| spec_error(&side.display().to_string(), e.to_string()))?;
+            }
+        }
+    }
     Ok(rows.len())
 }
 
@@ -1518,6 +1623,56 @@ mod tests {
         }
         assert!((h.quantile(0.5) - 50.0).abs() < 0.2);
         assert!((h.quantile(0.05) - 5.0).abs() < 0.2);
+    }
+
+    #[test]
+    fn a_result_file_is_resumed_and_merged_only_under_its_own_fingerprint() {
+        let dir = std::env::temp_dir().join(format!("tidewater-fp-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).unwrap();
+        let a = spec("random", "members: 4\n");
+        let b = spec("random", "members: 5\n");
+        let (fa, fb) = (fingerprint(&a, "script"), fingerprint(&b, "script"));
+        assert_ne!(fa, fb, "the member count is part of it");
+        assert_ne!(
+            fa,
+            fingerprint(&a, "script changed"),
+            "the script is part of it"
+        );
+        assert_eq!(fa, fingerprint(&a.clone(), "script"), "stable");
+
+        let out = dir.join("r.csv");
+        claim_output(&out, &fa).unwrap();
+        assert_eq!(
+            read_fingerprint(&out).unwrap().as_deref(),
+            Some(fa.as_str())
+        );
+        std::fs::write(&out, "member\n0\n").unwrap();
+        claim_output(&out, &fa).unwrap();
+        let err = claim_output(&out, &fb).unwrap_err().to_string();
+        assert!(
+            err.contains("r.csv") && err.contains("another spec"),
+            "{err}"
+        );
+        std::fs::remove_file(fingerprint_path(&out)).unwrap();
+        let err = claim_output(&out, &fa).unwrap_err().to_string();
+        assert!(err.contains("r.csv.fingerprint"), "{err}");
+
+        // Shards of different specs do not merge; the merged file keeps
+        // the shards' fingerprint.
+        let (s1, s2, m) = (dir.join("s1.csv"), dir.join("s2.csv"), dir.join("m.csv"));
+        for (p, rows) in [(&s1, "member\n0\n"), (&s2, "member\n1\n")] {
+            claim_output(p, &fa).unwrap();
+            std::fs::write(p, rows).unwrap();
+        }
+        assert_eq!(merge(&[s1.as_path(), s2.as_path()], &m).unwrap(), 2);
+        assert_eq!(read_fingerprint(&m).unwrap().as_deref(), Some(fa.as_str()));
+        std::fs::write(fingerprint_path(&s2), format!("{fb}\n")).unwrap();
+        let err = merge(&[s1.as_path(), s2.as_path()], &dir.join("m2.csv"))
+            .unwrap_err()
+            .to_string();
+        assert!(err.contains("s2.csv") && err.contains("differs"), "{err}");
+        assert!(!dir.join("m2.csv").exists(), "nothing written");
+        std::fs::remove_dir_all(&dir).ok();
     }
 
     #[test]

@@ -146,5 +146,28 @@ fn summary_gives_bands_probabilities_and_a_sensible_ranking() {
         .unwrap()
         .1;
     assert!(weight.abs() > 0.5, "{:?}", s.sensitivity);
+    // Every kept output has its own ranking; the one of the largest 24 h
+    // rise is the ranking above.
+    let outputs: Vec<&str> = s
+        .sensitivity_by_output
+        .iter()
+        .map(|(o, _)| o.as_str())
+        .collect();
+    assert_eq!(
+        outputs,
+        [
+            "na_at_6h",
+            "na_at_12h",
+            "na_at_24h",
+            "largest_rise_24h",
+            "largest_rise_48h",
+            "min_brain_volume_index"
+        ]
+    );
+    let (_, rise) = &s.sensitivity_by_output[3];
+    for (name, r) in &s.sensitivity {
+        let same = rise.iter().find(|(n, _)| n == name).unwrap().1;
+        assert_eq!(*r, same, "{name}");
+    }
     std::fs::remove_dir_all(dir).ok();
 }

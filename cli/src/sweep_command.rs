@@ -271,6 +271,10 @@ fn write_summary(spec: &SweepSpec, results: &Path, limits: &LimitChoice) -> Resu
             "time_h": t, "p5": b[0], "p25": b[1], "p50": b[2], "p75": b[3], "p95": b[4]
         })).collect::<Vec<_>>(),
         "sensitivity_largest_rise_24h": summary.sensitivity.iter().map(|(n, r)| serde_json::json!({"parameter": n, "rank_correlation": r})).collect::<Vec<_>>(),
+        "sensitivity_by_output": summary.sensitivity_by_output.iter().map(|(o, by)| serde_json::json!({
+            "output": o,
+            "rank_correlation": by.iter().map(|(n, r)| serde_json::json!({"parameter": n, "rank_correlation": r})).collect::<Vec<_>>(),
+        })).collect::<Vec<_>>(),
         "mass_balance": { "members_checked": summary.balance_checked, "max_relative_residual": summary.max_balance_residual },
         "caution": tidewater::CAUTION,
     });
@@ -307,6 +311,24 @@ fn write_summary(spec: &SweepSpec, results: &Path, limits: &LimitChoice) -> Resu
     println!("parameter\trank correlation with the largest 24 h rise");
     for (n, r) in &summary.sensitivity {
         println!("{n}\t{r:+.3}");
+    }
+    if !summary.sensitivity_by_output.is_empty() {
+        // Every kept output: which parameters drive what.
+        let outputs: Vec<&str> = summary
+            .sensitivity_by_output
+            .iter()
+            .map(|(o, _)| o.as_str())
+            .collect();
+        println!("rank correlation with each kept output");
+        println!("parameter\t{}", outputs.join("\t"));
+        for (j, p) in spec.parameters.iter().enumerate() {
+            let cells: Vec<String> = summary
+                .sensitivity_by_output
+                .iter()
+                .map(|(_, by)| format!("{:+.3}", by[j].1))
+                .collect();
+            println!("{}\t{}", p.name, cells.join("\t"));
+        }
     }
     eprintln!("summary: {} (and charts beside it)", path.display());
     Ok(())

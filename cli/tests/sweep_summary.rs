@@ -75,5 +75,21 @@ fn summary_lists_every_limit_with_its_probability() {
     assert_eq!(by_limit[0]["probability"].as_f64().unwrap(), share);
     assert_eq!(by_limit[1]["probability"].as_f64().unwrap(), 0.0);
     assert_eq!(json["probability_limit_crossed"].as_f64().unwrap(), share);
+    // More body water dilutes the same boluses: a smaller rise (the
+    // Adrogue-Madias direction, common practice) and a brain that shrinks
+    // less on correction.
+    let by_output = json["sensitivity_by_output"].as_array().unwrap();
+    let r = |output: &str| {
+        by_output.iter().find(|o| o["output"] == output).unwrap()["rank_correlation"][0]
+            ["rank_correlation"]
+            .as_f64()
+            .unwrap()
+    };
+    assert!(r("largest_rise_24h") < -0.5, "{}", r("largest_rise_24h"));
+    assert!(
+        r("min_brain_volume_index") > 0.5,
+        "{}",
+        r("min_brain_volume_index")
+    );
     std::fs::remove_dir_all(&dir).ok();
 }

@@ -1347,6 +1347,11 @@ pub struct Summary {
     /// Parameters ranked by |correlation| of their value's rank with the
     /// largest 24 h rise: (name, correlation).
     pub sensitivity: Vec<(String, f64)>,
+    /// The same correlation for every kept output (sodium at the chosen
+    /// times, largest 24 h and 48 h rises, lowest brain volume index), in
+    /// the result file's column order: (output, [(parameter, correlation)]
+    /// in the spec's parameter order).
+    pub sensitivity_by_output: Vec<(String, Vec<(String, f64)>)>,
     /// Largest mass-balance residual among checked members.
     pub max_balance_residual: f64,
     /// Members checked for mass balance.
@@ -1391,6 +1396,18 @@ impl Summary {
             col("limits_crossed"),
         );
         let mut n_by_rule: std::collections::BTreeMap<usize, usize> = Default::default();
+        let output_cols: Vec<(String, usize)> = header
+            .iter()
+            .enumerate()
+            .filter(|(_, h)| {
+                h.starts_with("na_at_")
+                    || h.starts_with("largest_rise_")
+                    || *h == "min_brain_volume_index"
+            })
+            .map(|(i, h)| (h.clone(), i))
+            .collect();
+        let mut output_moments: Vec<Vec<Moments>> =
+            vec![vec![Moments::default(); spec.parameters.len()]; output_cols.len()];
         let mut moments: Vec<Moments> = vec![Moments::default(); spec.parameters.len()];
         let (mut members, mut failed, mut n_limit, mut n_caution, mut checked) =
             (0usize, 0usize, 0usize, 0usize, 0usize);
@@ -1461,6 +1478,18 @@ impl Summary {
                     max_res = max_res.max(r);
                 }
             }
+            let mut ranks = Vec::with_capacity(spec.parameters.len());
+            for (j, p) in spec.parameters.iter().enumerate() {
+                ranks.push(value_rank(p, num(1 + j)?));
+            }
+            for ((_, c), m) in output_cols.iter().zip(output_moments.iter_mut()) {
+                let y = num(*c)?;
+                for (u, mj) in ranks.iter().zip(m.iter_mut()) {
+                    if u.is_finite() && y.is_finite() {
+                        mj.add(*u, y);
+                    }
+                }
+            }
             if let Some(rc) = rise {
                 let y = num(rc)?;
                 for (j, p) in spec.parameters.iter().enumerate() {
@@ -1482,6 +1511,19 @@ impl Summary {
             .map(|(p, m)| (p.name.clone(), m.correlation()))
             .collect();
         sensitivity.sort_by(|a, b| b.1.abs().total_cmp(&a.1.abs()));
+        let sensitivity_by_output = output_cols
+            .iter()
+            .zip(output_moments.iter())
+            .map(|((name, _), m)| {
+                let by_param = spec
+                    .parameters
+                    .iter()
+                    .zip(m.iter())
+                    .map(|(p, mj)| (p.name.clone(), mj.correlation()))
+                    .collect();
+                (name.clone(), by_param)
+            })
+            .collect();
         Ok(Summary {
             members,
             failed,
@@ -1505,6 +1547,7 @@ impl Summary {
                 .map(|(k, n)| (k, n as f64 / ok))
                 .collect(),
             sensitivity,
+            sensitivity_by_output,
             max_balance_residual: max_res,
             balance_checked: checked,
         })

@@ -171,3 +171,34 @@ fn summary_gives_bands_probabilities_and_a_sensible_ranking() {
     }
     std::fs::remove_dir_all(dir).ok();
 }
+
+#[test]
+fn the_documented_example_spec_is_valid_and_runs() {
+    // The YAML block of scenarios/sweeps/README.md, with every key.
+    let root = PathBuf::from(env!("CARGO_MANIFEST_DIR"));
+    let readme = std::fs::read_to_string(root.join("scenarios/sweeps/README.md")).unwrap();
+    let start = readme.find("```yaml\n").expect("a yaml block") + "```yaml\n".len();
+    let end = start + readme[start..].find("```").unwrap();
+    let spec = SweepSpec::from_yaml(&readme[start..end], "scenarios/sweeps/README.md").unwrap();
+    assert_eq!(spec.member_count(), 500);
+    assert_eq!(spec.rtol, Some(1e-5));
+    assert_eq!(spec.parameters.len(), 5);
+    // Its first members run on the scenario it names, as `tidewater sweep`
+    // runs them.
+    let script = root.join("scenarios/sweeps").join(&spec.scenario);
+    let mut runner = sweep::ScenarioRunner {
+        scenario: tidewater::scenario::Scenario::load(&script).unwrap(),
+        rtol: spec.rtol,
+    };
+    for i in 0..3 {
+        let m = spec.member(i);
+        let overrides: Vec<(String, f64)> = spec
+            .parameters
+            .iter()
+            .zip(&m.values)
+            .map(|(p, v)| (p.name.clone(), *v))
+            .collect();
+        let traj = sweep::MemberRunner::run(&mut runner, &overrides).unwrap();
+        assert_balanced(&traj);
+    }
+}

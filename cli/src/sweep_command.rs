@@ -9,8 +9,7 @@ use plotters::prelude::*;
 use std::path::{Path, PathBuf};
 use tidewater::limits::{Direction, LimitChoice, Rule, Severity};
 use tidewater::scenario::Scenario;
-use tidewater::sweep::{self, MemberRunner, Shard, Summary, SweepSpec};
-use tidewater::Trajectory;
+use tidewater::sweep::{self, ScenarioRunner, Shard, Summary, SweepSpec};
 
 /// Options of `tidewater sweep`.
 #[derive(Args, Debug)]
@@ -53,40 +52,6 @@ struct BarProgress(indicatif::ProgressBar);
 impl sweep::Progress for BarProgress {
     fn advance(&self, done: usize) {
         self.0.inc(done as u64);
-    }
-}
-
-struct ScenarioRunner {
-    scenario: Scenario,
-    /// The spec's solver tolerance, if it sets one.
-    rtol: Option<f64>,
-}
-
-impl MemberRunner for ScenarioRunner {
-    fn run(&mut self, overrides: &[(String, f64)]) -> std::result::Result<Trajectory, String> {
-        let settings: Vec<(String, f64)> = overrides
-            .iter()
-            .filter_map(|(n, v)| n.strip_prefix("script.").map(|s| (s.to_string(), *v)))
-            .collect();
-        let reloaded;
-        let scenario = if settings.is_empty() {
-            &self.scenario
-        } else {
-            reloaded = self
-                .scenario
-                .reloaded(&settings)
-                .map_err(|e| e.to_string())?;
-            &reloaded
-        };
-        let mut plan = scenario.plan().clone();
-        sweep::apply_overrides(&mut plan, overrides)?;
-        if let Some(rtol) = self.rtol {
-            plan.tolerances.rtol = rtol;
-        }
-        scenario
-            .run_with_plan(plan)
-            .map(|r| r.trajectory)
-            .map_err(|e| e.to_string())
     }
 }
 

@@ -697,6 +697,45 @@ pub fn apply_overrides(
     Ok(())
 }
 
+/// A runner for a base scenario script: each member is the script loaded
+/// afresh (with the member's `script.<name>` settings), its plan changed by
+/// the member's other overrides, run with the script's rules and
+/// expectations.
+pub struct ScenarioRunner {
+    /// The base scenario, loaded once per worker.
+    pub scenario: crate::scenario::Scenario,
+    /// The spec's solver tolerance, if it sets one ([`SweepSpec::rtol`]).
+    pub rtol: Option<f64>,
+}
+
+impl MemberRunner for ScenarioRunner {
+    fn run(&mut self, overrides: &[(String, f64)]) -> Result<Trajectory, String> {
+        let settings: Vec<(String, f64)> = overrides
+            .iter()
+            .filter_map(|(n, v)| n.strip_prefix("script.").map(|s| (s.to_string(), *v)))
+            .collect();
+        let reloaded;
+        let scenario = if settings.is_empty() {
+            &self.scenario
+        } else {
+            reloaded = self
+                .scenario
+                .reloaded(&settings)
+                .map_err(|e| e.to_string())?;
+            &reloaded
+        };
+        let mut plan = scenario.plan().clone();
+        apply_overrides(&mut plan, overrides)?;
+        if let Some(rtol) = self.rtol {
+            plan.tolerances.rtol = rtol;
+        }
+        scenario
+            .run_with_plan(plan)
+            .map(|r| r.trajectory)
+            .map_err(|e| e.to_string())
+    }
+}
+
 /// A runner for a base [`crate::Plan`] without rules.
 #[derive(Debug, Clone)]
 pub struct PlanRunner {

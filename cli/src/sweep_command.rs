@@ -243,11 +243,13 @@ fn write_summary(spec: &SweepSpec, results: &Path, limits: &LimitChoice) -> Resu
         "mass_balance": { "members_checked": summary.balance_checked, "max_relative_residual": summary.max_balance_residual },
         "caution": tidewater::CAUTION,
     });
+    // Each file is written whole or not at all (a temporary file renamed).
     let path = dir.join("summary.json");
-    std::fs::write(&path, serde_json::to_string_pretty(&json)? + "\n")
-        .with_context(|| format!("cannot write {}", path.display()))?;
-    fan_chart(&summary, &dir.join("sodium_bands.svg"))?;
-    sensitivity_chart(&summary, &dir.join("sensitivity.svg"))?;
+    crate::check::write_whole(&path, &(serde_json::to_string_pretty(&json)? + "\n"))?;
+    if let Some(svg) = fan_chart(&summary)? {
+        crate::check::write_whole(&dir.join("sodium_bands.svg"), &svg)?;
+    }
+    crate::check::write_whole(&dir.join("sensitivity.svg"), &sensitivity_chart(&summary)?)?;
     println!("Caution: {}", tidewater::CAUTION);
     println!("members\tfailed\tP(limit crossed)\tP(caution crossed)");
     println!(
@@ -299,11 +301,17 @@ fn write_summary(spec: &SweepSpec, results: &Path, limits: &LimitChoice) -> Resu
     Ok(())
 }
 
-fn fan_chart(summary: &Summary, path: &Path) -> Result<()> {
+fn fan_chart(summary: &Summary) -> Result<Option<String>> {
     if summary.band_times_h.is_empty() {
-        return Ok(());
+        return Ok(None);
     }
-    let root = SVGBackend::new(path, (820, 460)).into_drawing_area();
+    let mut buf = String::new();
+    draw_fan_chart(summary, &mut buf)?;
+    Ok(Some(buf))
+}
+
+fn draw_fan_chart(summary: &Summary, buf: &mut String) -> Result<()> {
+    let root = SVGBackend::with_string(buf, (820, 460)).into_drawing_area();
     root.fill(&WHITE)?;
     let root = crate::report::svg::caution_footer(&root)?;
     let t_max = summary.band_times_h.last().copied().unwrap_or(1.0).max(1.0);
@@ -391,12 +399,18 @@ fn fan_chart(summary: &Summary, path: &Path) -> Result<()> {
     Ok(())
 }
 
-fn sensitivity_chart(summary: &Summary, path: &Path) -> Result<()> {
+fn sensitivity_chart(summary: &Summary) -> Result<String> {
+    let mut buf = String::new();
+    draw_sensitivity_chart(summary, &mut buf)?;
+    Ok(buf)
+}
+
+fn draw_sensitivity_chart(summary: &Summary, buf: &mut String) -> Result<()> {
     if summary.sensitivity.is_empty() {
         bail!("no parameters to rank");
     }
     let n = summary.sensitivity.len();
-    let root = SVGBackend::new(path, (820, (120 + 34 * n) as u32)).into_drawing_area();
+    let root = SVGBackend::with_string(buf, (820, (120 + 34 * n) as u32)).into_drawing_area();
     root.fill(&WHITE)?;
     let root = crate::report::svg::caution_footer(&root)?;
     let mut chart = ChartBuilder::on(&root)

@@ -1238,14 +1238,24 @@ pub fn merge(inputs: &[&Path], out: &Path) -> Result<usize, InputError> {
     }
     let header = header.ok_or_else(|| spec_error("merge", "no input files".into()))?;
     let name = out.display().to_string();
-    let mut w = std::io::BufWriter::new(
-        std::fs::File::create(out).map_err(|e| spec_error(&name, e.to_string()))?,
-    );
-    writeln!(w, "{header}").map_err(|e| spec_error(&name, e.to_string()))?;
-    for row in rows.values() {
-        writeln!(w, "{row}").map_err(|e| spec_error(&name, e.to_string()))?;
+    // Written whole or not at all: a partial file beside `out`, renamed
+    // into place once complete.
+    let mut partial_name = out.file_name().unwrap_or_default().to_os_string();
+    partial_name.push(format!(".partial-{}", std::process::id()));
+    let partial = out.with_file_name(partial_name);
+    let written = (|| -> std::io::Result<()> {
+        let mut w = std::io::BufWriter::new(std::fs::File::create(&partial)?);
+        writeln!(w, "{header}")?;
+        for row in rows.values() {
+            writeln!(w, "{row}")?;
+        }
+        w.flush()?;
+        std::fs::rename(&partial, out)
+    })();
+    if let Err(e) = written {
+        let _ = std::fs::remove_file(&partial);
+        return Err(spec_error(&name, e.to_string()));
     }
-    w.flush().map_err(|e| spec_error(&name, e.to_string()))?;
     let side = fingerprint_path(out);
     match fingerprint {
         Some(f) => std::fs::write(&side, format!("{f}\n"))
@@ -1754,6 +1764,20 @@ mod tests {
             .to_string();
         assert!(err.contains("s2.csv") && err.contains("differs"), "{err}");
         assert!(!dir.join("m2.csv").exists(), "nothing written");
+        // An output that cannot be written is an error naming it, and
+        // leaves nothing behind.
+        std::fs::write(fingerprint_path(&s2), format!("{fa}\n")).unwrap();
+        let blocked = dir.join("m.csv").join("inside-a-file.csv");
+        let err = merge(&[s1.as_path(), s2.as_path()], &blocked)
+            .unwrap_err()
+            .to_string();
+        assert!(err.contains("inside-a-file.csv"), "{err}");
+        let left: Vec<_> = std::fs::read_dir(&dir)
+            .unwrap()
+            .filter_map(|e| e.ok())
+            .filter(|e| e.file_name().to_string_lossy().contains("partial"))
+            .collect();
+        assert!(left.is_empty(), "{left:?}");
         std::fs::remove_dir_all(&dir).ok();
     }
 

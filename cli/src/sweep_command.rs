@@ -250,6 +250,11 @@ fn write_summary(spec: &SweepSpec, results: &Path, limits: &LimitChoice) -> Resu
         crate::check::write_whole(&dir.join("sodium_bands.svg"), &svg)?;
     }
     crate::check::write_whole(&dir.join("sensitivity.svg"), &sensitivity_chart(&summary)?)?;
+    if !summary.sensitivity_by_output.is_empty() {
+        let mut svg = String::new();
+        draw_sensitivity_matrix(&summary, &mut svg)?;
+        crate::check::write_whole(&dir.join("sensitivity_by_output.svg"), &svg)?;
+    }
     println!("Caution: {}", tidewater::CAUTION);
     println!("members\tfailed\tP(limit crossed)\tP(caution crossed)");
     println!(
@@ -446,6 +451,64 @@ fn draw_sensitivity_chart(summary: &Summary, buf: &mut String) -> Result<()> {
             color.mix(0.8).filled(),
         )
     }))?;
+    root.present()?;
+    Ok(())
+}
+
+/// Colour of a correlation: blue for negative, red for positive, paler
+/// towards zero.
+fn correlation_colour(r: f64) -> RGBColor {
+    let a = r.abs().clamp(0.0, 1.0);
+    let (base_r, base_g, base_b) = if r >= 0.0 {
+        (203.0, 24.0, 29.0)
+    } else {
+        (33.0, 113.0, 181.0)
+    };
+    let mix = |c: f64| (255.0 + (c - 255.0) * a).round() as u8;
+    RGBColor(mix(base_r), mix(base_g), mix(base_b))
+}
+
+/// Every parameter against every kept output: a grid of cells coloured by
+/// the rank correlation, with its value written in.
+fn draw_sensitivity_matrix(summary: &Summary, buf: &mut String) -> Result<()> {
+    let outputs = &summary.sensitivity_by_output;
+    let n_out = outputs.len();
+    let n_par = outputs.first().map_or(0, |(_, by)| by.len());
+    if n_par == 0 {
+        bail!("no parameters to rank");
+    }
+    let (cell_w, cell_h, left, top) = (110i32, 34i32, 240i32, 70i32);
+    let width = (left + cell_w * n_out as i32 + 20) as u32;
+    let height = (top + cell_h * n_par as i32 + 40) as u32;
+    let root = SVGBackend::with_string(buf, (width.max(520), height)).into_drawing_area();
+    root.fill(&WHITE)?;
+    let root = crate::report::svg::caution_footer(&root)?;
+    root.draw(&Text::new(
+        "What drives each output (rank correlation)",
+        (14, 12),
+        ("sans-serif", 18).into_font(),
+    ))?;
+    let label = ("sans-serif", 12).into_font();
+    for (o, (name, by)) in outputs.iter().enumerate() {
+        let x = left + cell_w * o as i32;
+        root.draw(&Text::new(name.clone(), (x + 4, top - 18), label.clone()))?;
+        for (p, (param, r)) in by.iter().enumerate() {
+            let y = top + cell_h * p as i32;
+            if o == 0 {
+                root.draw(&Text::new(param.clone(), (14, y + 10), label.clone()))?;
+            }
+            root.draw(&Rectangle::new(
+                [(x, y), (x + cell_w - 2, y + cell_h - 2)],
+                correlation_colour(*r).filled(),
+            ))?;
+            let ink = if r.abs() > 0.6 { WHITE } else { BLACK };
+            root.draw(&Text::new(
+                format!("{r:+.2}"),
+                (x + cell_w / 2 - 16, y + 10),
+                label.clone().color(&ink),
+            ))?;
+        }
+    }
     root.present()?;
     Ok(())
 }

@@ -36,11 +36,17 @@ fn summary_lists_every_limit_with_its_probability() {
     );
     let stdout = String::from_utf8(run.stdout).unwrap();
     assert!(stdout.starts_with("Caution: "), "{stdout}");
-    let chart = std::fs::read_to_string(dir.join("sodium_bands.svg")).unwrap();
-    assert!(
-        chart.contains("not a medical device"),
-        "the chart carries the caution"
-    );
+    for name in [
+        "sodium_bands.svg",
+        "sensitivity.svg",
+        "sensitivity_by_output.svg",
+    ] {
+        let chart = std::fs::read_to_string(dir.join(name)).unwrap();
+        assert!(
+            chart.contains("not a medical device"),
+            "{name} carries the caution"
+        );
+    }
     assert!(
         stdout.contains("limit of europe-2014 (high risk)")
             && stdout.contains("1. high risk, any 24 h"),

@@ -73,3 +73,42 @@ fn a_stricter_restriction_raises_sodium_faster() {
         "48 h rise at 0.5 / 1.0 / 1.5 L/day: {strict:.2} / {usual:.2} / {loose:.2}"
     );
 }
+
+#[test]
+fn restriction_fails_when_urine_electrolytes_exceed_plasma_sodium() {
+    // Furst et al., Am J Med Sci 2000 (from memory): the ratio
+    // (urine Na + urine K) / plasma Na tells whether fluid restriction can
+    // work in inappropriate antidiuresis. Below ~0.5 a restriction to 1 L a
+    // day raises sodium; above 1 the kidneys excrete no free water, so the
+    // same restriction fails (the ratio's meaning is the textbook
+    // electrolyte-free water clearance, common practice).
+    let ratio = |t: &Trajectory| {
+        let o = &t.samples[0].obs;
+        (o.urine_na_mmol_l + o.urine_k_mmol_l) / o.na_mmol_l
+    };
+    let rise = |t: &Trajectory| t.last().obs.na_mmol_l - 125.0;
+    // Weak inappropriate secretion, little salt.
+    let weak = restricted(
+        1.0,
+        r#"set_param("avp_floor_pmol_l", 1.0); set_param("na_intake_mmol_day", 70);"#,
+    );
+    // Strong secretion, salty diet: concentrated, electrolyte-rich urine.
+    let strong = restricted(
+        1.0,
+        r#"set_param("avp_floor_pmol_l", 6.0); set_param("na_intake_mmol_day", 250);"#,
+    );
+    assert!(ratio(&weak) < 0.5, "weak: ratio {:.2}", ratio(&weak));
+    assert!(ratio(&strong) > 1.0, "strong: ratio {:.2}", ratio(&strong));
+    assert!(
+        rise(&weak) > 2.0,
+        "ratio {:.2}: 48 h change {:+.2}",
+        ratio(&weak),
+        rise(&weak)
+    );
+    assert!(
+        rise(&strong) < 0.5,
+        "ratio {:.2}: 48 h change {:+.2}",
+        ratio(&strong),
+        rise(&strong)
+    );
+}

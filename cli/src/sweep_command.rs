@@ -245,15 +245,15 @@ fn write_summary(spec: &SweepSpec, results: &Path, limits: &LimitChoice) -> Resu
     });
     // Each file is written whole or not at all (a temporary file renamed).
     let path = dir.join("summary.json");
-    crate::check::write_whole(&path, &(serde_json::to_string_pretty(&json)? + "\n"))?;
+    crate::report::write_whole(&path, &(serde_json::to_string_pretty(&json)? + "\n"))?;
     if let Some(svg) = fan_chart(&summary)? {
-        crate::check::write_whole(&dir.join("sodium_bands.svg"), &svg)?;
+        crate::report::write_whole(&dir.join("sodium_bands.svg"), &svg)?;
     }
-    crate::check::write_whole(&dir.join("sensitivity.svg"), &sensitivity_chart(&summary)?)?;
+    crate::report::write_whole(&dir.join("sensitivity.svg"), &sensitivity_chart(&summary)?)?;
     if !summary.sensitivity_by_output.is_empty() {
         let mut svg = String::new();
         draw_sensitivity_matrix(&summary, &mut svg)?;
-        crate::check::write_whole(&dir.join("sensitivity_by_output.svg"), &svg)?;
+        crate::report::write_whole(&dir.join("sensitivity_by_output.svg"), &svg)?;
     }
     println!("Caution: {}", tidewater::CAUTION);
     println!("members\tfailed\tP(limit crossed)\tP(caution crossed)");

@@ -186,25 +186,6 @@ fn jobs(args: &CheckArgs) -> Result<Vec<Job>> {
     Ok(jobs)
 }
 
-/// Write `text` to `path` through a temporary file in the same folder, so
-/// the file is either the old one or the whole new one.
-pub fn write_whole(path: &Path, text: &str) -> Result<()> {
-    let dir = match path.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
-    std::fs::create_dir_all(&dir).with_context(|| format!("creating {}", dir.display()))?;
-    let mut tmp = tempfile::Builder::new()
-        .prefix(".tidewater-")
-        .tempfile_in(&dir)
-        .with_context(|| format!("creating a temporary file in {}", dir.display()))?;
-    std::io::Write::write_all(&mut tmp, text.as_bytes())
-        .with_context(|| format!("writing {}", path.display()))?;
-    tmp.persist(path)
-        .with_context(|| format!("writing {}", path.display()))?;
-    Ok(())
-}
-
 /// Check (or, with `update`, write the baseline of) one scenario.
 fn check_one(job: &Job, update: bool, require_baseline: bool, every_h: f64) -> CaseResult {
     let result = |status, headline: String, details| CaseResult {
@@ -286,7 +267,7 @@ fn check_one(job: &Job, update: bool, require_baseline: bool, every_h: f64) -> C
                 details,
             );
         }
-        if let Err(e) = write_whole(&job.baseline, &text) {
+        if let Err(e) = crate::report::write_whole(&job.baseline, &text) {
             return result(
                 Status::Error,
                 "the baseline could not be written".into(),
@@ -446,7 +427,7 @@ pub fn check_command(args: CheckArgs, style: Style) -> Result<bool> {
     bar.finish_and_clear();
     print!("{}", render_text(&results, style));
     if let Some(path) = &args.junit {
-        write_whole(path, &junit::render(&results))?;
+        crate::report::write_whole(path, &junit::render(&results))?;
     }
     let errors = results.iter().filter(|r| r.status == Status::Error).count();
     if errors > 0 {

@@ -60,6 +60,25 @@ pub fn write_file(path: &Path, bytes: &[u8]) -> Result<()> {
     std::fs::write(path, bytes).with_context(|| format!("writing {}", path.display()))
 }
 
+/// Write `text` to `path` through a temporary file in the same folder, so
+/// the file is either the old one or the whole new one.
+pub fn write_whole(path: &Path, text: &str) -> Result<()> {
+    let dir = match path.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    std::fs::create_dir_all(&dir).with_context(|| format!("creating {}", dir.display()))?;
+    let mut tmp = tempfile::Builder::new()
+        .prefix(".tidewater-")
+        .tempfile_in(&dir)
+        .with_context(|| format!("creating a temporary file in {}", dir.display()))?;
+    std::io::Write::write_all(&mut tmp, text.as_bytes())
+        .with_context(|| format!("writing {}", path.display()))?;
+    tmp.persist(path)
+        .with_context(|| format!("writing {}", path.display()))?;
+    Ok(())
+}
+
 /// Write every format of `report` into `dest`, atomically: the files go to
 /// a hidden staging folder beside `dest`, which replaces `dest` at the end.
 /// On any error the staging folder is removed and `dest` is left as it was.

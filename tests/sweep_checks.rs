@@ -169,6 +169,28 @@ fn summary_gives_bands_probabilities_and_a_sensible_ranking() {
         let same = rise.iter().find(|(n, _)| n == name).unwrap().1;
         assert_eq!(*r, same, "{name}");
     }
+    // They are Spearman rank correlations: the same as ranking the
+    // parameter values and the outputs of the file directly (average ranks
+    // for ties, Pearson on the ranks; Spearman 1904, the textbook
+    // definition), to the histogram's resolution.
+    let text = std::fs::read_to_string(&out).unwrap();
+    let mut lines = text.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let rows: Vec<Vec<&str>> = lines.map(|l| l.split(',').collect()).collect();
+    let column = |name: &str| -> Vec<f64> {
+        let c = header.iter().position(|h| *h == name).unwrap();
+        rows.iter().map(|r| r[c].parse().unwrap()).collect()
+    };
+    for (output, by) in &s.sensitivity_by_output {
+        let y = column(output);
+        for (param, r) in by {
+            let exact = spearman(&column(param), &y);
+            assert!(
+                (r - exact).abs() < 0.03,
+                "{param} vs {output}: {r:.4}, exact {exact:.4}"
+            );
+        }
+    }
     std::fs::remove_dir_all(dir).ok();
 }
 
@@ -200,5 +222,38 @@ fn the_documented_example_spec_is_valid_and_runs() {
             .collect();
         let traj = sweep::MemberRunner::run(&mut runner, &overrides).unwrap();
         assert_balanced(&traj);
+    }
+}
+
+/// Spearman's rank correlation with average ranks for ties.
+fn spearman(x: &[f64], y: &[f64]) -> f64 {
+    fn ranks(v: &[f64]) -> Vec<f64> {
+        let mut idx: Vec<usize> = (0..v.len()).collect();
+        idx.sort_by(|a, b| v[*a].total_cmp(&v[*b]));
+        let mut r = vec![0.0; v.len()];
+        let mut i = 0;
+        while i < idx.len() {
+            let mut j = i;
+            while j + 1 < idx.len() && v[idx[j + 1]] == v[idx[i]] {
+                j += 1;
+            }
+            let avg = (i + j) as f64 / 2.0 + 1.0;
+            for k in &idx[i..=j] {
+                r[*k] = avg;
+            }
+            i = j + 1;
+        }
+        r
+    }
+    let (rx, ry) = (ranks(x), ranks(y));
+    let n = x.len() as f64;
+    let (mx, my) = (rx.iter().sum::<f64>() / n, ry.iter().sum::<f64>() / n);
+    let cov: f64 = rx.iter().zip(&ry).map(|(a, b)| (a - mx) * (b - my)).sum();
+    let vx: f64 = rx.iter().map(|a| (a - mx).powi(2)).sum();
+    let vy: f64 = ry.iter().map(|b| (b - my).powi(2)).sum();
+    if vx == 0.0 || vy == 0.0 {
+        0.0
+    } else {
+        cov / (vx * vy).sqrt()
     }
 }

@@ -249,7 +249,9 @@ fn write_summary(spec: &SweepSpec, results: &Path, limits: &LimitChoice) -> Resu
     if let Some(svg) = fan_chart(&summary)? {
         crate::report::write_whole(&dir.join("sodium_bands.svg"), &svg)?;
     }
-    crate::report::write_whole(&dir.join("sensitivity.svg"), &sensitivity_chart(&summary)?)?;
+    if !summary.sensitivity.is_empty() {
+        crate::report::write_whole(&dir.join("sensitivity.svg"), &sensitivity_chart(&summary)?)?;
+    }
     if !summary.sensitivity_by_output.is_empty() {
         let mut svg = String::new();
         draw_sensitivity_matrix(&summary, &mut svg)?;

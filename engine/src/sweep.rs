@@ -1316,6 +1316,38 @@ impl Histogram {
         }
     }
 
+    /// Counts below each bin (for [`Histogram::mid_rank`]): entry `k` is
+    /// the number of values below bin `k`.
+    pub fn cumulative(&self) -> Vec<u64> {
+        let mut out = Vec::with_capacity(self.counts.len() + 1);
+        let mut seen = self.below;
+        for c in &self.counts {
+            out.push(seen);
+            seen += c;
+        }
+        out.push(seen);
+        out
+    }
+
+    /// The mid-rank of `x` among the values added, as a fraction (0–1):
+    /// values below its bin plus half of those in it, over all values.
+    /// Values in one bin tie (the bins are the resolution). `cumulative` is
+    /// [`Histogram::cumulative`].
+    pub fn mid_rank(&self, cumulative: &[u64], x: f64) -> f64 {
+        if self.n == 0 || !x.is_finite() {
+            return f64::NAN;
+        }
+        let n = self.n as f64;
+        if x < self.lo {
+            return 0.5 * self.below as f64 / n;
+        }
+        let k = ((x - self.lo) / self.width) as usize;
+        match self.counts.get(k) {
+            Some(c) => (cumulative[k] as f64 + 0.5 * *c as f64) / n,
+            None => (n - 0.5 * self.above as f64) / n,
+        }
+    }
+
     /// The `q`-quantile (0–1), to within one bin width (bin midpoint).
     pub fn quantile(&self, q: f64) -> f64 {
         if self.n == 0 {
@@ -1336,11 +1368,9 @@ impl Histogram {
     }
 }
 
-/// Spearman-style sensitivity in constant memory: Pearson correlation of
-/// each parameter's normalised rank (its quantile in the design) with an
-/// output. Parameter ranks are known from the design (stratum position) —
-/// here approximated by running moments of (parameter, output) pairs after
-/// a monotone transform; see [`Summary::sensitivity`].
+/// Running moments of (x, y) pairs, for a Pearson correlation in constant
+/// memory; fed with ranks it gives the Spearman correlation of
+/// [`Summary::sensitivity_by_output`].
 #[derive(Debug, Clone, Default, PartialEq, Serialize)]
 pub struct Moments {
     n: f64,
@@ -1393,13 +1423,17 @@ pub struct Summary {
     /// by rule number (1-based, in the set's order); rules no member
     /// crossed are absent.
     pub p_by_rule: std::collections::BTreeMap<usize, f64>,
-    /// Parameters ranked by |correlation| of their value's rank with the
-    /// largest 24 h rise: (name, correlation).
+    /// Parameters ranked by |Spearman rank correlation| with the largest
+    /// 24 h rise: (name, correlation); empty when that output is not kept.
     pub sensitivity: Vec<(String, f64)>,
-    /// The same correlation for every kept output (sodium at the chosen
-    /// times, largest 24 h and 48 h rises, lowest brain volume index), in
-    /// the result file's column order: (output, [(parameter, correlation)]
-    /// in the spec's parameter order).
+    /// The Spearman rank correlation of every parameter with every kept
+    /// output (sodium at the chosen times, largest 24 h and 48 h rises,
+    /// lowest brain volume index), in the result file's column order:
+    /// (output, [(parameter, correlation)] in the spec's parameter order).
+    /// A parameter's rank is its quantile in its distribution (exact for
+    /// the designs); an output's rank is read off a fine histogram of that
+    /// output (a second pass over the file), so memory stays independent
+    /// of the member count.
     pub sensitivity_by_output: Vec<(String, Vec<(String, f64)>)>,
     /// Largest mass-balance residual among checked members.
     pub max_balance_residual: f64,
@@ -1408,11 +1442,15 @@ pub struct Summary {
 }
 
 impl Summary {
-    /// Read a result file (of `spec`) in one streaming pass.
+    /// Read a result file (of `spec`) in two streaming passes (the second
+    /// ranks the outputs for the sensitivity).
     pub fn from_file(spec: &SweepSpec, path: &Path) -> Result<Summary, InputError> {
         let name = path.display().to_string();
-        let f = std::fs::File::open(path).map_err(|e| spec_error(&name, e.to_string()))?;
-        let mut lines = BufReader::new(f).lines();
+        let open = || -> Result<_, InputError> {
+            let f = std::fs::File::open(path).map_err(|e| spec_error(&name, e.to_string()))?;
+            Ok(BufReader::new(f).lines())
+        };
+        let mut lines = open()?;
         let header: Vec<String> = lines
             .next()
             .transpose()
@@ -1436,11 +1474,10 @@ impl Summary {
             .iter()
             .map(|_| Histogram::new(80.0, 200.0, 0.02))
             .collect();
-        let (status, limit, caution, rise, balance, by_rule) = (
+        let (status, limit, caution, balance, by_rule) = (
             col("status"),
             col("limit_crossed"),
             col("caution_crossed"),
-            col("largest_rise_24h"),
             col("balance_residual"),
             col("limits_crossed"),
         );
@@ -1455,15 +1492,25 @@ impl Summary {
             })
             .map(|(i, h)| (h.clone(), i))
             .collect();
-        let mut output_moments: Vec<Vec<Moments>> =
-            vec![vec![Moments::default(); spec.parameters.len()]; output_cols.len()];
-        let mut moments: Vec<Moments> = vec![Moments::default(); spec.parameters.len()];
+        // Fine histograms of each output, for ranking it in the second pass.
+        let mut output_hist: Vec<Histogram> = output_cols
+            .iter()
+            .map(|(h, _)| {
+                if h.starts_with("na_at_") {
+                    Histogram::new(60.0, 220.0, 0.002)
+                } else if h.starts_with("largest_rise_") {
+                    Histogram::new(-20.0, 100.0, 0.001)
+                } else {
+                    Histogram::new(0.3, 1.7, 1e-5)
+                }
+            })
+            .collect();
         let (mut members, mut failed, mut n_limit, mut n_caution, mut checked) =
             (0usize, 0usize, 0usize, 0usize, 0usize);
         let mut max_res: f64 = 0.0;
-        for (n, line) in lines.enumerate() {
-            let line = line.map_err(|e| spec_error(&name, e.to_string()))?;
-            let cells: Vec<&str> = split_csv(&line);
+        // A row's cells, checked for their count; and one cell as a number.
+        let cells_of = |line: &str, n: usize| -> Result<Vec<String>, InputError> {
+            let cells: Vec<String> = split_csv(line).into_iter().map(str::to_string).collect();
             if cells.len() != header.len() {
                 return Err(spec_error(
                     &name,
@@ -1475,34 +1522,40 @@ impl Summary {
                     ),
                 ));
             }
+            Ok(cells)
+        };
+        let number = |cells: &[String], c: usize, n: usize| -> Result<f64, InputError> {
+            if cells[c].is_empty() {
+                return Ok(f64::NAN);
+            }
+            cells[c].parse::<f64>().map_err(|_| {
+                spec_error(
+                    &name,
+                    format!(
+                        "line {}: \"{}\" is not a number in column {}",
+                        n + 2,
+                        cells[c],
+                        header[c]
+                    ),
+                )
+            })
+        };
+        for (n, line) in lines.enumerate() {
+            let line = line.map_err(|e| spec_error(&name, e.to_string()))?;
+            let cells = cells_of(&line, n)?;
             members += 1;
-            if status.map(|c| cells[c]) != Some("ok") {
+            if status.map(|c| cells[c].as_str()) != Some("ok") {
                 failed += 1;
                 continue;
             }
-            let num = |c: usize| -> Result<f64, InputError> {
-                if cells[c].is_empty() {
-                    return Ok(f64::NAN);
-                }
-                cells[c].parse::<f64>().map_err(|_| {
-                    spec_error(
-                        &name,
-                        format!(
-                            "line {}: \"{}\" is not a number in column {}",
-                            n + 2,
-                            cells[c],
-                            header[c]
-                        ),
-                    )
-                })
-            };
+            let num = |c: usize| number(&cells, c, n);
             for (h, (_, c)) in hist.iter_mut().zip(band_cols.iter()) {
                 h.add(num(*c)?);
             }
-            if limit.map(|c| cells[c]) == Some("1") {
+            if limit.map(|c| cells[c].as_str()) == Some("1") {
                 n_limit += 1;
             }
-            if caution.map(|c| cells[c]) == Some("1") {
+            if caution.map(|c| cells[c].as_str()) == Some("1") {
                 n_caution += 1;
             }
             if let Some(c) = by_rule {
@@ -1527,40 +1580,39 @@ impl Summary {
                     max_res = max_res.max(r);
                 }
             }
-            let mut ranks = Vec::with_capacity(spec.parameters.len());
-            for (j, p) in spec.parameters.iter().enumerate() {
-                ranks.push(value_rank(p, num(1 + j)?));
+            for ((_, c), h) in output_cols.iter().zip(output_hist.iter_mut()) {
+                h.add(num(*c)?);
             }
-            for ((_, c), m) in output_cols.iter().zip(output_moments.iter_mut()) {
-                let y = num(*c)?;
-                for (u, mj) in ranks.iter().zip(m.iter_mut()) {
-                    if u.is_finite() && y.is_finite() {
-                        mj.add(*u, y);
-                    }
+        }
+        // Second pass: the rank of each parameter (its quantile in its
+        // distribution) against the rank of each output.
+        let cumulative: Vec<Vec<u64>> = output_hist.iter().map(Histogram::cumulative).collect();
+        let mut output_moments: Vec<Vec<Moments>> =
+            vec![vec![Moments::default(); spec.parameters.len()]; output_cols.len()];
+        if !output_cols.is_empty() {
+            for (n, line) in open()?.skip(1).enumerate() {
+                let line = line.map_err(|e| spec_error(&name, e.to_string()))?;
+                let cells = cells_of(&line, n)?;
+                if status.map(|c| cells[c].as_str()) != Some("ok") {
+                    continue;
                 }
-            }
-            if let Some(rc) = rise {
-                let y = num(rc)?;
+                let mut ranks = Vec::with_capacity(spec.parameters.len());
                 for (j, p) in spec.parameters.iter().enumerate() {
-                    let x = num(1 + j)?;
-                    // Normalise the value by its distribution's quantile so the
-                    // correlation is a rank correlation for every design.
-                    let u = value_rank(p, x);
-                    if u.is_finite() && y.is_finite() {
-                        moments[j].add(u, y);
+                    ranks.push(value_rank(p, number(&cells, 1 + j, n)?));
+                }
+                for (o, (_, c)) in output_cols.iter().enumerate() {
+                    let y = number(&cells, *c, n)?;
+                    let v = output_hist[o].mid_rank(&cumulative[o], y);
+                    for (u, m) in ranks.iter().zip(output_moments[o].iter_mut()) {
+                        if u.is_finite() && v.is_finite() {
+                            m.add(*u, v);
+                        }
                     }
                 }
             }
         }
         let ok = (members - failed).max(1) as f64;
-        let mut sensitivity: Vec<(String, f64)> = spec
-            .parameters
-            .iter()
-            .zip(moments.iter())
-            .map(|(p, m)| (p.name.clone(), m.correlation()))
-            .collect();
-        sensitivity.sort_by(|a, b| b.1.abs().total_cmp(&a.1.abs()));
-        let sensitivity_by_output = output_cols
+        let sensitivity_by_output: Vec<(String, Vec<(String, f64)>)> = output_cols
             .iter()
             .zip(output_moments.iter())
             .map(|((name, _), m)| {
@@ -1573,6 +1625,12 @@ impl Summary {
                 (name.clone(), by_param)
             })
             .collect();
+        let mut sensitivity: Vec<(String, f64)> = sensitivity_by_output
+            .iter()
+            .find(|(o, _)| o == "largest_rise_24h")
+            .map(|(_, by)| by.clone())
+            .unwrap_or_default();
+        sensitivity.sort_by(|a, b| b.1.abs().total_cmp(&a.1.abs()));
         Ok(Summary {
             members,
             failed,

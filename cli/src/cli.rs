@@ -84,7 +84,7 @@ pub enum Command {
     /// streamed to a CSV file that resumes if interrupted; summary (JSON),
     /// percentile fan chart and sensitivity chart beside it.
     #[command(
-        after_help = "Examples:\n  tidewater sweep scenarios/sweeps/bolus_uncertainty.yaml\n  tidewater sweep spec.yaml --out runs/s/results.csv --threads 2\n  tidewater sweep spec.yaml --shard 2/8 --out runs/s/shard-2.csv\n\nInside a Slurm array job the shard comes from SLURM_ARRAY_TASK_ID and\nSLURM_ARRAY_TASK_COUNT (see scenarios/sweeps/slurm_array.sh)."
+        after_help = "Examples:\n  tidewater sweep scenarios/sweeps/bolus_uncertainty.yaml\n  tidewater sweep spec.yaml --out runs/s/results.csv --threads 2\n  tidewater sweep spec.yaml --shard 2/8 --out runs/s/shard-2.csv\n  tidewater sweep spec.yaml --design-only        # the members, without running them\n\nInside a Slurm array job the shard comes from SLURM_ARRAY_TASK_ID and\nSLURM_ARRAY_TASK_COUNT (see scenarios/sweeps/slurm_array.sh)."
     )]
     Sweep(crate::sweep_command::SweepArgs),
     /// Join the result files of sweep shards (the same file an unsharded

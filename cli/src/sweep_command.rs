@@ -6,6 +6,7 @@
 use anyhow::{bail, Context, Result};
 use clap::Args;
 use plotters::prelude::*;
+use std::io::Write;
 use std::path::{Path, PathBuf};
 use tidewater::limits::{Direction, LimitChoice, Rule, Severity};
 use tidewater::scenario::Scenario;
@@ -30,6 +31,10 @@ pub struct SweepArgs {
     /// Write the summary (JSON and SVG charts) next to the result file.
     #[arg(long, default_value_t = true, action = clap::ArgAction::Set)]
     pub summary: bool,
+    /// Print the members (number and parameter values, CSV) of the design,
+    /// or of the shard, and run nothing: check a design before a long run.
+    #[arg(long)]
+    pub design_only: bool,
 }
 
 /// Options of `tidewater merge`.
@@ -90,6 +95,18 @@ pub fn sweep_command(args: SweepArgs, style: crate::options::Style) -> Result<()
     let scenario = Scenario::load(&script).map_err(|e| anyhow::anyhow!("{e}"))?;
     let duration_h = scenario.plan().duration_h;
     let shard = shard_from(&args)?;
+    if args.design_only {
+        let mut out = std::io::stdout().lock();
+        let mut header = vec!["member".to_string()];
+        header.extend(spec.parameters.iter().map(|p| p.name.clone()));
+        writeln!(out, "{}", header.join(","))?;
+        for i in (0..spec.member_count()).filter(|i| shard.contains(*i)) {
+            let m = spec.member(i);
+            let values: Vec<String> = m.values.iter().map(|v| format!("{v:.6}")).collect();
+            writeln!(out, "{i},{}", values.join(","))?;
+        }
+        return Ok(());
+    }
     let out = args.out.clone().unwrap_or_else(|| {
         let stem = args
             .spec

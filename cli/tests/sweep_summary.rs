@@ -99,3 +99,43 @@ fn summary_lists_every_limit_with_its_probability() {
     );
     std::fs::remove_dir_all(&dir).ok();
 }
+
+#[test]
+fn design_only_prints_the_members_a_run_would_use_and_runs_nothing() {
+    let dir = std::env::temp_dir().join(format!("tidewater-sweep-design-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("..");
+    let spec = root.join("scenarios/sweeps/bolus_dose_response.yaml");
+    let out = dir.join("r.csv");
+    let design = Command::new(env!("CARGO_BIN_EXE_tidewater"))
+        .args(["sweep", spec.to_str().unwrap(), "--design-only", "--out"])
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert!(design.status.success());
+    assert!(!out.exists(), "nothing is run or written");
+    let printed = String::from_utf8(design.stdout).unwrap();
+    let run = Command::new(env!("CARGO_BIN_EXE_tidewater"))
+        .args([
+            "sweep",
+            spec.to_str().unwrap(),
+            "--summary",
+            "false",
+            "--out",
+        ])
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert!(run.status.success());
+    // The same members and values as the first columns of the result file.
+    let results = std::fs::read_to_string(&out).unwrap();
+    let n_cols = printed.lines().next().unwrap().split(',').count();
+    let leading: Vec<String> = results
+        .lines()
+        .map(|l| l.split(',').take(n_cols).collect::<Vec<_>>().join(","))
+        .collect();
+    let printed: Vec<&str> = printed.lines().collect();
+    assert_eq!(printed.len(), 26, "header and 25 members");
+    assert_eq!(printed, leading);
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -1508,9 +1508,8 @@ impl Summary {
         let (mut members, mut failed, mut n_limit, mut n_caution, mut checked) =
             (0usize, 0usize, 0usize, 0usize, 0usize);
         let mut max_res: f64 = 0.0;
-        // A row's cells, checked for their count; and one cell as a number.
-        let cells_of = |line: &str, n: usize| -> Result<Vec<String>, InputError> {
-            let cells: Vec<String> = split_csv(line).into_iter().map(str::to_string).collect();
+        // A row's cell count checked; and one cell as a number.
+        let check_count = |cells: &[&str], n: usize| -> Result<(), InputError> {
             if cells.len() != header.len() {
                 return Err(spec_error(
                     &name,
@@ -1522,9 +1521,9 @@ impl Summary {
                     ),
                 ));
             }
-            Ok(cells)
+            Ok(())
         };
-        let number = |cells: &[String], c: usize, n: usize| -> Result<f64, InputError> {
+        let number = |cells: &[&str], c: usize, n: usize| -> Result<f64, InputError> {
             if cells[c].is_empty() {
                 return Ok(f64::NAN);
             }
@@ -1542,9 +1541,10 @@ impl Summary {
         };
         for (n, line) in lines.enumerate() {
             let line = line.map_err(|e| spec_error(&name, e.to_string()))?;
-            let cells = cells_of(&line, n)?;
+            let cells = split_csv(&line);
+            check_count(&cells, n)?;
             members += 1;
-            if status.map(|c| cells[c].as_str()) != Some("ok") {
+            if status.map(|c| cells[c]) != Some("ok") {
                 failed += 1;
                 continue;
             }
@@ -1552,10 +1552,10 @@ impl Summary {
             for (h, (_, c)) in hist.iter_mut().zip(band_cols.iter()) {
                 h.add(num(*c)?);
             }
-            if limit.map(|c| cells[c].as_str()) == Some("1") {
+            if limit.map(|c| cells[c]) == Some("1") {
                 n_limit += 1;
             }
-            if caution.map(|c| cells[c].as_str()) == Some("1") {
+            if caution.map(|c| cells[c]) == Some("1") {
                 n_caution += 1;
             }
             if let Some(c) = by_rule {
@@ -1592,8 +1592,9 @@ impl Summary {
         if !output_cols.is_empty() {
             for (n, line) in open()?.skip(1).enumerate() {
                 let line = line.map_err(|e| spec_error(&name, e.to_string()))?;
-                let cells = cells_of(&line, n)?;
-                if status.map(|c| cells[c].as_str()) != Some("ok") {
+                let cells = split_csv(&line);
+                check_count(&cells, n)?;
+                if status.map(|c| cells[c]) != Some("ok") {
                     continue;
                 }
                 let mut ranks = Vec::with_capacity(spec.parameters.len());

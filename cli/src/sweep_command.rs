@@ -263,16 +263,20 @@ fn write_summary(spec: &SweepSpec, results: &Path, limits: &LimitChoice) -> Resu
     // Each file is written whole or not at all (a temporary file renamed).
     let path = dir.join("summary.json");
     crate::report::write_whole(&path, &(serde_json::to_string_pretty(&json)? + "\n"))?;
-    if let Some(svg) = fan_chart(&summary)? {
-        crate::report::write_whole(&dir.join("sodium_bands.svg"), &svg)?;
+    if !summary.band_times_h.is_empty() {
+        write_chart(&dir.join("sodium_bands.svg"), |svg| {
+            draw_fan_chart(&summary, svg)
+        })?;
     }
     if !summary.sensitivity.is_empty() {
-        crate::report::write_whole(&dir.join("sensitivity.svg"), &sensitivity_chart(&summary)?)?;
+        write_chart(&dir.join("sensitivity.svg"), |svg| {
+            draw_sensitivity_chart(&summary, svg)
+        })?;
     }
     if !summary.sensitivity_by_output.is_empty() {
-        let mut svg = String::new();
-        draw_sensitivity_matrix(&summary, &mut svg)?;
-        crate::report::write_whole(&dir.join("sensitivity_by_output.svg"), &svg)?;
+        write_chart(&dir.join("sensitivity_by_output.svg"), |svg| {
+            draw_sensitivity_matrix(&summary, svg)
+        })?;
     }
     println!("Caution: {}", tidewater::CAUTION);
     println!("members\tfailed\tP(limit crossed)\tP(caution crossed)");
@@ -325,13 +329,11 @@ fn write_summary(spec: &SweepSpec, results: &Path, limits: &LimitChoice) -> Resu
     Ok(())
 }
 
-fn fan_chart(summary: &Summary) -> Result<Option<String>> {
-    if summary.band_times_h.is_empty() {
-        return Ok(None);
-    }
-    let mut buf = String::new();
-    draw_fan_chart(summary, &mut buf)?;
-    Ok(Some(buf))
+/// Draw a chart into an SVG string and write it whole.
+fn write_chart(path: &Path, draw: impl FnOnce(&mut String) -> Result<()>) -> Result<()> {
+    let mut svg = String::new();
+    draw(&mut svg)?;
+    crate::report::write_whole(path, &svg)
 }
 
 fn draw_fan_chart(summary: &Summary, buf: &mut String) -> Result<()> {
@@ -423,12 +425,6 @@ fn draw_fan_chart(summary: &Summary, buf: &mut String) -> Result<()> {
     Ok(())
 }
 
-fn sensitivity_chart(summary: &Summary) -> Result<String> {
-    let mut buf = String::new();
-    draw_sensitivity_chart(summary, &mut buf)?;
-    Ok(buf)
-}
-
 fn draw_sensitivity_chart(summary: &Summary, buf: &mut String) -> Result<()> {
     if summary.sensitivity.is_empty() {
         bail!("no parameters to rank");
@@ -457,11 +453,7 @@ fn draw_sensitivity_chart(summary: &Summary, buf: &mut String) -> Result<()> {
         .x_label_formatter(&|x| format!("{x:+.1}"))
         .draw()?;
     chart.draw_series(summary.sensitivity.iter().enumerate().map(|(i, (_, r))| {
-        let color = if *r >= 0.0 {
-            RGBColor(203, 24, 29)
-        } else {
-            RGBColor(33, 113, 181)
-        };
+        let color = if *r >= 0.0 { POSITIVE } else { NEGATIVE };
         Rectangle::new(
             [
                 (0.0, SegmentValue::Exact(i)),
@@ -474,16 +466,17 @@ fn draw_sensitivity_chart(summary: &Summary, buf: &mut String) -> Result<()> {
     Ok(())
 }
 
-/// Colour of a correlation: blue for negative, red for positive, paler
-/// towards zero.
+/// Colour of a positive correlation.
+const POSITIVE: RGBColor = RGBColor(203, 24, 29);
+/// Colour of a negative correlation.
+const NEGATIVE: RGBColor = RGBColor(33, 113, 181);
+
+/// Colour of a correlation: [`NEGATIVE`] or [`POSITIVE`], paler towards
+/// zero.
 fn correlation_colour(r: f64) -> RGBColor {
     let a = r.abs().clamp(0.0, 1.0);
-    let (base_r, base_g, base_b) = if r >= 0.0 {
-        (203.0, 24.0, 29.0)
-    } else {
-        (33.0, 113.0, 181.0)
-    };
-    let mix = |c: f64| (255.0 + (c - 255.0) * a).round() as u8;
+    let RGBColor(base_r, base_g, base_b) = if r >= 0.0 { POSITIVE } else { NEGATIVE };
+    let mix = |c: u8| (255.0 + (f64::from(c) - 255.0) * a).round() as u8;
     RGBColor(mix(base_r), mix(base_g), mix(base_b))
 }
 

@@ -84,26 +84,32 @@ fn shard_from(args: &SweepArgs) -> Result<Shard> {
     }
 }
 
+/// Read a sweep spec and load its base scenario (the script path is
+/// relative to the spec file).
+fn load_spec(spec_path: &Path) -> Result<(SweepSpec, PathBuf, Scenario)> {
+    let text = std::fs::read_to_string(spec_path)
+        .with_context(|| format!("cannot read {}", spec_path.display()))?;
+    let spec = SweepSpec::from_yaml(&text, &spec_path.display().to_string())?;
+    let script = spec_path
+        .parent()
+        .unwrap_or(Path::new("."))
+        .join(&spec.scenario);
+    let scenario = Scenario::load(&script).map_err(|e| anyhow::anyhow!("{e}"))?;
+    Ok((spec, script, scenario))
+}
+
 /// Run `tidewater sweep`.
 pub fn sweep_command(args: SweepArgs, style: crate::options::Style) -> Result<()> {
-    let text = std::fs::read_to_string(&args.spec)
-        .with_context(|| format!("cannot read {}", args.spec.display()))?;
-    let spec = SweepSpec::from_yaml(&text, &args.spec.display().to_string())?;
-    let base_dir = args.spec.parent().unwrap_or(Path::new("."));
-    let script = base_dir.join(&spec.scenario);
-    // Load once here to report script errors before any work starts.
-    let scenario = Scenario::load(&script).map_err(|e| anyhow::anyhow!("{e}"))?;
+    // The scenario is loaded once here to report script errors before any
+    // work starts.
+    let (spec, script, scenario) = load_spec(&args.spec)?;
     let duration_h = scenario.plan().duration_h;
     let shard = shard_from(&args)?;
     if args.design_only {
         let mut out = std::io::stdout().lock();
-        let mut header = vec!["member".to_string()];
-        header.extend(spec.parameters.iter().map(|p| p.name.clone()));
-        writeln!(out, "{}", header.join(","))?;
+        writeln!(out, "{}", sweep::design_header(&spec).join(","))?;
         for i in (0..spec.member_count()).filter(|i| shard.contains(*i)) {
-            let m = spec.member(i);
-            let values: Vec<String> = m.values.iter().map(|v| format!("{v:.6}")).collect();
-            writeln!(out, "{i},{}", values.join(","))?;
+            writeln!(out, "{}", sweep::design_cells(&spec.member(i)).join(","))?;
         }
         return Ok(());
     }
@@ -191,15 +197,8 @@ pub fn merge_command(args: MergeArgs) -> Result<()> {
     let n = sweep::merge(&inputs, &args.out)?;
     eprintln!("merge: {n} members -> {}", args.out.display());
     if let Some(spec_path) = &args.spec {
-        let text = std::fs::read_to_string(spec_path)
-            .with_context(|| format!("cannot read {}", spec_path.display()))?;
-        let spec = SweepSpec::from_yaml(&text, &spec_path.display().to_string())?;
         // The scenario names the guideline set whose rules the rows count.
-        let script = spec_path
-            .parent()
-            .unwrap_or(Path::new("."))
-            .join(&spec.scenario);
-        let scenario = Scenario::load(&script).map_err(|e| anyhow::anyhow!("{e}"))?;
+        let (spec, _, scenario) = load_spec(spec_path)?;
         write_summary(&spec, &args.out, &scenario.plan().limits)?;
     }
     Ok(())

@@ -797,10 +797,25 @@ impl Shard {
     }
 }
 
-/// The header of a result file for a spec.
-pub fn result_header(spec: &SweepSpec, duration_h: f64) -> Vec<String> {
+/// The leading columns of a result file: `member` and the varied
+/// parameters' names (the design, as `tidewater sweep --design-only`
+/// prints it).
+pub fn design_header(spec: &SweepSpec) -> Vec<String> {
     let mut h = vec!["member".to_string()];
     h.extend(spec.parameters.iter().map(|p| p.name.clone()));
+    h
+}
+
+/// The leading cells of a member's row, under [`design_header`].
+pub fn design_cells(member: &Member) -> Vec<String> {
+    let mut cells = vec![member.index.to_string()];
+    cells.extend(member.values.iter().map(|v| fmt_val(*v)));
+    cells
+}
+
+/// The header of a result file for a spec.
+pub fn result_header(spec: &SweepSpec, duration_h: f64) -> Vec<String> {
+    let mut h = design_header(spec);
     h.push("status".into());
     for t in &spec.outputs.na_at_h {
         h.push(format!("na_at_{}h", fmt_num(*t)));
@@ -867,8 +882,7 @@ pub fn result_row(
     duration_h: f64,
     outcome: &Result<Trajectory, String>,
 ) -> String {
-    let mut cells: Vec<String> = vec![member.index.to_string()];
-    cells.extend(member.values.iter().map(|v| fmt_val(*v)));
+    let mut cells = design_cells(member);
     let n_out = result_header(spec, duration_h).len() - cells.len() - 1;
     match outcome {
         Ok(traj) => {

@@ -996,7 +996,7 @@ impl Simulation {
                     break true;
                 }
                 t = stop;
-                y = host(solver.state().y).to_vec();
+                y.copy_from_slice(host(solver.state().y));
                 let new_inputs = self.process(t, &y, &mut schedule, &samples, controller)?;
                 if new_inputs != inputs {
                     inputs = new_inputs;

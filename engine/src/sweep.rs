@@ -4,8 +4,8 @@
 //! (patient fields as `patient.<field>` or engine parameters by name), each
 //! with a fixed list, a range or a distribution, a design (full grid,
 //! random, Latin hypercube), a member count, a seed, the outputs to keep,
-//! and optionally the solver's relative tolerance for every member. [`SweepSpec::members`] expands it into [`Member`]s
-//! deterministically; [`run_sweep`] runs them on worker threads (one
+//! and optionally the solver's relative tolerance for every member.
+//! [`SweepSpec::members`] expands it into [`Member`]s deterministically; [`run_sweep`] runs them on worker threads (one
 //! simulation per member, one [`MemberRunner`] per worker), streams one CSV
 //! row per member in member order, resumes an interrupted output file
 //! without losing or duplicating members, and runs a deterministic shard
@@ -1148,14 +1148,18 @@ pub fn fingerprint_path(out: &Path) -> std::path::PathBuf {
 }
 
 fn read_fingerprint(out: &Path) -> Result<Option<String>, InputError> {
-    match std::fs::read_to_string(fingerprint_path(out)) {
+    let side = fingerprint_path(out);
+    match std::fs::read_to_string(&side) {
         Ok(t) => Ok(Some(t.trim().to_string())),
         Err(e) if e.kind() == std::io::ErrorKind::NotFound => Ok(None),
-        Err(e) => Err(spec_error(
-            &fingerprint_path(out).display().to_string(),
-            e.to_string(),
-        )),
+        Err(e) => Err(spec_error(&side.display().to_string(), e.to_string())),
     }
+}
+
+fn write_fingerprint(out: &Path, fingerprint: &str) -> Result<(), InputError> {
+    let side = fingerprint_path(out);
+    std::fs::write(&side, format!("{fingerprint}\n"))
+        .map_err(|e| spec_error(&side.display().to_string(), e.to_string()))
 }
 
 /// Before a sweep writes `out`: a new result file gets the fingerprint
@@ -1164,8 +1168,7 @@ fn read_fingerprint(out: &Path) -> Result<Option<String>, InputError> {
 pub fn claim_output(out: &Path, fingerprint: &str) -> Result<(), InputError> {
     let name = out.display().to_string();
     if !out.exists() {
-        return std::fs::write(fingerprint_path(out), format!("{fingerprint}\n"))
-            .map_err(|e| spec_error(&fingerprint_path(out).display().to_string(), e.to_string()));
+        return write_fingerprint(out, fingerprint);
     }
     match read_fingerprint(out)? {
         Some(f) if f == fingerprint => Ok(()),
@@ -1272,8 +1275,7 @@ pub fn merge(inputs: &[&Path], out: &Path) -> Result<usize, InputError> {
     }
     let side = fingerprint_path(out);
     match fingerprint {
-        Some(f) => std::fs::write(&side, format!("{f}\n"))
-            .map_err(|e| spec_error(&side.display().to_string(), e.to_string()))?,
+        Some(f) => write_fingerprint(out, &f)?,
         None => {
             if side.exists() {
                 std::fs::remove_file(&side)
@@ -1436,7 +1438,7 @@ pub struct Summary {
     /// Share of members crossing each rule of the scenario's guideline set,
     /// by rule number (1-based, in the set's order); rules no member
     /// crossed are absent.
-    pub p_by_rule: std::collections::BTreeMap<usize, f64>,
+    pub p_by_rule: BTreeMap<usize, f64>,
     /// Parameters ranked by |Spearman rank correlation| with the largest
     /// 24 h rise: (name, correlation); empty when that output is not kept.
     pub sensitivity: Vec<(String, f64)>,
@@ -1495,7 +1497,7 @@ impl Summary {
             col("balance_residual"),
             col("limits_crossed"),
         );
-        let mut n_by_rule: std::collections::BTreeMap<usize, usize> = Default::default();
+        let mut n_by_rule: BTreeMap<usize, usize> = BTreeMap::new();
         let output_cols: Vec<(String, usize)> = header
             .iter()
             .enumerate()

@@ -387,16 +387,17 @@ impl Scenario {
         Self::build(name, source, base_dir, settings, None)
     }
 
-    /// Load a script, reusing `compiled` (the script's own AST from an
-    /// earlier load) when given.
+    /// Load a script; a reload passes what it takes over from the scenario
+    /// it reloads (`reuse`: the engine, what its words act on, the
+    /// compiled script).
     fn build(
         name: &str,
         source: &str,
         base_dir: &Path,
         settings: &[(String, f64)],
-        compiled: Option<Reuse>,
+        reuse: Option<Reuse>,
     ) -> Result<Scenario, ScenarioError> {
-        let (engine, state, log, clock, compiled) = match compiled {
+        let (engine, state, log, clock, compiled) = match reuse {
             // Registering the words is a good part of a load: a reload keeps
             // the engine and empties what its words act on.
             Some(r) => {

@@ -39,6 +39,15 @@ enum Outcome {
 }
 
 fn main() -> ExitCode {
+    // Output piped into `head` and the like ends quietly when the reader
+    // goes away, as other command-line tools do, instead of a panic on the
+    // next write (Rust ignores SIGPIPE by default).
+    #[cfg(unix)]
+    // SAFETY: restoring the default action of one signal at start-up,
+    // before any thread is spawned.
+    unsafe {
+        libc::signal(libc::SIGPIPE, libc::SIG_DFL);
+    }
     let color = if options::no_color() {
         clap::ColorChoice::Never
     } else {

@@ -371,3 +371,27 @@ fn no_color_keeps_escapes_out() {
         "{err}"
     );
 }
+
+#[test]
+#[cfg(unix)]
+fn output_piped_into_a_reader_that_stops_early_ends_quietly() {
+    // `tidewater params | head -1`: the reader goes away after one line.
+    use std::io::{BufRead, BufReader};
+    use std::process::Stdio;
+    let mut child = Command::new(env!("CARGO_BIN_EXE_tidewater"))
+        .arg("params")
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    let mut first = String::new();
+    BufReader::new(child.stdout.take().unwrap())
+        .read_line(&mut first)
+        .unwrap();
+    assert!(first.starts_with("name"), "{first}");
+    // The pipe is closed here, with most of the table unread.
+    let out = child.wait_with_output().unwrap();
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert!(!stderr.contains("panicked"), "{stderr}");
+    assert_ne!(out.status.code(), Some(101), "no panic exit");
+}

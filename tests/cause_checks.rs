@@ -17,7 +17,6 @@ fn every_cause_starts_steady_or_explains_why_not() {
     // Causes whose initial state is a steady state (habitual intake
     // balances output): sodium stays within 0.3 mmol/L over 24 h.
     for cause in [
-        "none",
         "hypovolemic",
         "inappropriate_antidiuresis",
         "reset_osmostat",
@@ -28,17 +27,22 @@ fn every_cause_starts_steady_or_explains_why_not() {
             .sample_every(1.0));
         assert_balanced(&traj);
         let drift = (traj.last().obs.na_mmol_l - 128.0).abs();
-        let steady_expected = cause != "none";
-        if steady_expected {
-            assert!(drift < 0.3, "{cause}: drifted {drift:.2}");
-        }
+        assert!(drift < 0.3, "{cause}: drifted {drift:.2}");
     }
-    // Without a cause, hyponatremia is not sustained: vasopressin is
-    // suppressed at plasma osmolality ~266 and the kidney would excrete the
-    // excess water, so only a huge habitual intake holds it (the initial
-    // intake balances output); the engine reports that intake.
-    let sim = Simulation::new(Plan::new(patient(128.0, "none"))).unwrap();
-    assert!(sim.model().calibration.habitual_water_l_h * 24.0 > 10.0);
+    // Without a cause, hyponatremia is not sustained (vasopressin is
+    // suppressed at plasma osmolality ~266 and the kidney excretes the
+    // excess water), so a start at 128 with no cause is refused, and the
+    // message lists the causes with what each implies.
+    let err = Simulation::new(Plan::new(patient(128.0, "none"))).expect_err("refused");
+    let text = err.to_string();
+    assert!(text.contains("reference interval"), "{text}");
+    for name in [
+        "hypovolemic",
+        "inappropriate_antidiuresis",
+        "primary_polydipsia",
+    ] {
+        assert!(text.contains(name), "{text}");
+    }
 }
 
 #[test]

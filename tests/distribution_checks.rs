@@ -49,7 +49,16 @@ fn m5_dextrose_distributes_like_water() {
     let plasma = (b.plasma_l - a.plasma_l) / total;
     let cells =
         (b.cells_l + b.red_cells_l + b.brain_l - a.cells_l - a.red_cells_l - a.brain_l) / total;
-    assert!((0.07..=0.10).contains(&plasma), "plasma share {plasma:.3}");
+    // Expected failure, kept: the rule of thumb's 7-10 % in plasma assumes a
+    // plasma of one quarter of extracellular water (3-3.5 L for 70 kg). The
+    // model now sizes blood volume by published prediction (70 mL/kg in men
+    // without a height, Nadler 1962 with one), which gives 2.7 L of plasma
+    // and ~5.5 % of the water in plasma. The range is not widened; this
+    // asserts the known departure so that a change is noticed.
+    assert!(
+        (0.045..0.07).contains(&plasma),
+        "plasma share {plasma:.3}: the expected failure changed; revisit the rule of thumb"
+    );
     assert!((0.60..=0.72).contains(&cells), "cell share {cells:.3}");
 }
 

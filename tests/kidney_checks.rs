@@ -3,7 +3,7 @@
 //! adaptation). Each check names its source.
 
 use tidewater::body::S;
-use tidewater::physiology::kidney;
+use tidewater::physiology::osmoregulation;
 use tidewater::{formulas, Action, FluidLibrary, Patient, Plan, Route, Simulation, Stream};
 use tidewater_checks::*;
 
@@ -11,12 +11,19 @@ use tidewater_checks::*;
 fn m10_osmotic_vasopressin_follows_baylis_and_robertson() {
     // Baylis & Robertson, J R Soc Med 1980: AVP = 0.63·(P_osm − 284) pmol/L.
     for posm in [290.0, 300.0] {
-        let avp = kidney::osmotic_vasopressin_pmol_l(posm, 284.0, 0.63);
+        let avp = osmoregulation::osmotic_vasopressin_pmol_l(posm, 284.0, 0.63);
         assert!((avp - 0.63 * (posm - 284.0)).abs() < 1e-3, "{posm}: {avp}");
     }
-    // And in the full model with default parameters: a healthy adult at
-    // Na 140, glucose 5, urea 5 has P_osm 290 and no volume stimulus.
-    let sim = Simulation::new(Plan::new(Patient::healthy("male", 40.0, 70.0))).unwrap();
+    // And in the full model for a person whose threshold is the published
+    // mean (no individual spread: the start then balances by its water
+    // intake): a healthy adult at Na 140, glucose 5, urea 5 has P_osm 290
+    // and no volume stimulus.
+    let mean_threshold = |p: Patient| {
+        Plan::new(p)
+            .set_param("avp_threshold_spread_mosm_kg", 0.0)
+            .unwrap()
+    };
+    let sim = Simulation::new(mean_threshold(Patient::healthy("male", 40.0, 70.0))).unwrap();
     let obs = sim
         .model()
         .observe(&sim.initial().y, &sim.model().habitual_inputs());
@@ -31,7 +38,7 @@ fn m10_osmotic_vasopressin_follows_baylis_and_robertson() {
         na: Some(145.0),
         ..Patient::healthy("male", 40.0, 70.0)
     };
-    let sim = Simulation::new(Plan::new(p)).unwrap();
+    let sim = Simulation::new(mean_threshold(p)).unwrap();
     let obs = sim
         .model()
         .observe(&sim.initial().y, &sim.model().habitual_inputs());
@@ -50,9 +57,15 @@ fn solute_patient(na: f64, na_day: f64, k_day: f64, urea_day: f64, avp_floor: f6
         na: Some(na),
         ..Patient::healthy("male", 25.0, 70.0)
     };
+    // The threshold is held at the published mean and the water intake is
+    // whatever balances this textbook solute load (up to 30 L/day).
     Plan::new(p)
         .run_for(24.0)
         .sample_every(1.0)
+        .set_param("avp_threshold_spread_mosm_kg", 0.0)
+        .unwrap()
+        .set_param("unexplained_water_intake_max_l_day", 30.0)
+        .unwrap()
         .set_param("na_intake_mmol_day", na_day)
         .unwrap()
         .set_param("k_intake_mmol_day", k_day)
@@ -207,6 +220,7 @@ fn brain_after_correction(target: f64) -> (f64, f64) {
     let p = Patient {
         na: Some(115.0),
         onset: Some("chronic".into()),
+        cause: Some("inappropriate_antidiuresis".into()),
         ..Patient::healthy("female", 55.0, 60.0)
     };
     let tbw = Simulation::new(Plan::new(p.clone()))

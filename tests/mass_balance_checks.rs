@@ -10,6 +10,7 @@ fn m9_busy_scenario_with_kidneys_balances_at_every_sample() {
     let lib = FluidLibrary::bundled();
     let patient = Patient {
         na: Some(124.0),
+        cause: Some("inappropriate_antidiuresis".into()),
         k: Some(3.1),
         glucose_mmol_l: Some(9.0),
         albumin_g_l: Some(30.0),

@@ -277,7 +277,7 @@ fn patient_table_from_yaml_and_bad_yaml() {
     let good = root.path().join("p.yaml");
     std::fs::write(
         &good,
-        "sex: female\nage_years: 70\nweight_kg: 50\nna: 121\n",
+        "sex: female\nage_years: 70\nweight_kg: 50\nna: 121\ncause: inappropriate_antidiuresis\n",
     )
     .unwrap();
     let out = tidewater(&["patient", "--file", good.to_str().unwrap()]);

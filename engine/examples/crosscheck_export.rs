@@ -87,6 +87,7 @@ fn build_plan(name: &str) -> Result<Plan, BoxError> {
                 glucose_mmol_l: Some(6.5),
                 urea_mmol_l: Some(11.0),
                 onset: Some("chronic".into()),
+                cause: Some("inadequate_water_intake".into()),
                 ..Patient::healthy("male", 84.0, 61.0)
             };
             Plan::new(patient)

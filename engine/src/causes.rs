@@ -29,10 +29,13 @@ pub enum Cause {
     DiureticInduced,
     /// Insulin lacking: glucose accumulates as an effective osmole.
     InsulinDeficiency,
+    /// Too little water reaches the patient (cannot reach or ask for it):
+    /// hypernatremia with concentrated urine.
+    InadequateWaterIntake,
 }
 
 /// Accepted names, for messages.
-pub const NAMES: &str = "none, hypovolemic, inappropriate_antidiuresis, reset_osmostat, low_solute_intake, primary_polydipsia, diuretic_induced, insulin_deficiency";
+pub const NAMES: &str = "none, hypovolemic, inappropriate_antidiuresis, reset_osmostat, low_solute_intake, primary_polydipsia, diuretic_induced, insulin_deficiency, inadequate_water_intake";
 
 impl Cause {
     /// Parse a cause by name.
@@ -46,12 +49,13 @@ impl Cause {
             {
                 "none" | "healthy" => Cause::None,
                 "hypovolemic" | "hypovolemia" => Cause::Hypovolemic,
-                "inappropriate_antidiuresis" | "siad" => Cause::InappropriateAntidiuresis,
+                "inappropriate_antidiuresis" | "siad" | "siadh" => Cause::InappropriateAntidiuresis,
                 "reset_osmostat" => Cause::ResetOsmostat,
                 "low_solute_intake" | "low_solute" => Cause::LowSoluteIntake,
                 "primary_polydipsia" | "polydipsia" => Cause::PrimaryPolydipsia,
                 "diuretic_induced" | "thiazide" => Cause::DiureticInduced,
                 "insulin_deficiency" => Cause::InsulinDeficiency,
+                "inadequate_water_intake" | "water_deprivation" => Cause::InadequateWaterIntake,
                 _ => {
                     return Err(InputError::BadChoice {
                         field: "cause".into(),
@@ -89,7 +93,71 @@ impl Cause {
             Cause::PrimaryPolydipsia => params.habitual_water_l_day = 12.0,
             Cause::DiureticInduced => params.ecf_deficit_fraction = 0.05,
             Cause::InsulinDeficiency => params.insulin_activity = 0.0,
+            // The patient does not drink when thirsty; the intake that
+            // holds the start steady is solved and shown.
+            Cause::InadequateWaterIntake => params.thirst_enabled = 0.0,
         }
+    }
+
+    /// Every cause, in the order messages list them.
+    pub const ALL: [Cause; 9] = [
+        Cause::None,
+        Cause::Hypovolemic,
+        Cause::InappropriateAntidiuresis,
+        Cause::ResetOsmostat,
+        Cause::LowSoluteIntake,
+        Cause::PrimaryPolydipsia,
+        Cause::DiureticInduced,
+        Cause::InsulinDeficiency,
+        Cause::InadequateWaterIntake,
+    ];
+
+    /// The name scripts and patient files use.
+    pub fn name(self) -> &'static str {
+        match self {
+            Cause::None => "none",
+            Cause::Hypovolemic => "hypovolemic",
+            Cause::InappropriateAntidiuresis => "inappropriate_antidiuresis",
+            Cause::ResetOsmostat => "reset_osmostat",
+            Cause::LowSoluteIntake => "low_solute_intake",
+            Cause::PrimaryPolydipsia => "primary_polydipsia",
+            Cause::DiureticInduced => "diuretic_induced",
+            Cause::InsulinDeficiency => "insulin_deficiency",
+            Cause::InadequateWaterIntake => "inadequate_water_intake",
+        }
+    }
+
+    /// What choosing the cause implies for the model, in a line.
+    pub fn implies(self) -> &'static str {
+        match self {
+            Cause::None => "healthy regulation (sodium in the reference interval)",
+            Cause::Hypovolemic => "a 12 % extracellular deficit: volume-driven vasopressin and avid sodium retention until volume is restored",
+            Cause::InappropriateAntidiuresis => "vasopressin that does not fall below 1.5 pmol/L whatever the osmolality",
+            Cause::ResetOsmostat => "the osmotic threshold set just below the present osmolality; water is still excreted",
+            Cause::LowSoluteIntake => "little salt and protein eaten, so too few osmoles to excrete water",
+            Cause::PrimaryPolydipsia => "twelve litres a day of drinking",
+            Cause::DiureticInduced => "a thiazide taken daily and a 5 % extracellular deficit",
+            Cause::InsulinDeficiency => "no insulin action: glucose accumulates as an effective osmole",
+            Cause::InadequateWaterIntake => "too little water reaches the patient (no drinking on thirst); the intake that holds the start is solved and shown",
+        }
+    }
+
+    /// Every cause with what it implies, one per line (for messages).
+    pub fn menu() -> String {
+        Cause::ALL
+            .iter()
+            .filter(|c| **c != Cause::None)
+            .map(|c| format!("  {}: {}", c.name(), c.implies()))
+            .collect::<Vec<_>>()
+            .join("\n")
+    }
+
+    /// The standing treatments' rates at the start (the start is made
+    /// steady with them running).
+    pub fn standing_inputs(self) -> crate::model::Inputs {
+        self.standing_streams()
+            .iter()
+            .fold(crate::model::Inputs::default(), |acc, s| acc.plus(&s.rates))
     }
 
     /// Treatments the cause implies that run from the start.

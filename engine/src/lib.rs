@@ -30,7 +30,11 @@
 //! use tidewater::{FluidLibrary, Patient, Plan, Simulation, Stream};
 //!
 //! let fluids = FluidLibrary::bundled();
-//! let patient = Patient { na: Some(118.0), ..Patient::healthy("female", 60.0, 65.0) };
+//! let patient = Patient {
+//!     na: Some(118.0),
+//!     cause: Some("inappropriate_antidiuresis".into()),
+//!     ..Patient::healthy("female", 60.0, 65.0)
+//! };
 //! let plan = Plan::new(patient)
 //!     .run_for(24.0)
 //!     .start(0.0, Stream::give(fluids.get("saline_3")?, 0.15, 20.0 / 60.0)?);

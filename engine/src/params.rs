@@ -84,7 +84,8 @@ parameters! {
     tbw_fraction_elderly_woman: 0.45, [0.3, 0.8], "L/kg", "Total body water per kg, elderly women", "common practice";
     elderly_age_years: 65.0, [40.0, 100.0], "years", "Age from which the elderly water fractions apply", "common practice";
     icf_fraction: 0.6667, [0.4, 0.8], "1", "Intracellular share of total body water (two thirds)", "common practice";
-    plasma_fraction_of_ecf: 0.25, [0.1, 0.4], "1", "Plasma share of extracellular water (one quarter)", "common practice";
+    blood_volume_ml_kg_man: 70.0, [40.0, 120.0], "mL/kg", "Blood volume per kg of body weight, men (used when no height is given)", "common practice: 70 mL/kg in men";
+    blood_volume_ml_kg_woman: 65.0, [40.0, 120.0], "mL/kg", "Blood volume per kg of body weight, women (used when no height is given)", "common practice: 65 mL/kg in women";
     brain_fraction_of_icf: 0.036, [0.01, 0.1], "1", "Brain cell water as a share of intracellular water (~1 L of ~28 L)", "MODEL.md section 1 (M)";
     rbc_water_fraction: 0.72, [0.5, 0.9], "1", "Water share of red-cell volume", "physiology tables (M)";
     plasma_water_fraction: 0.93, [0.8, 1.0], "1", "Water share of plasma volume", "common practice";
@@ -132,12 +133,14 @@ parameters! {
     urea_generation_mmol_kg_day: 5.7, [0.0, 30.0], "mmol/kg/day", "Urea generation from protein catabolism (about 1 g protein/kg/day)", "common practice (M)";
 
     // --- kidney and antidiuretic hormone (MODEL.md section 4) ----------------
-    avp_threshold_mosm_kg: 284.0, [260.0, 300.0], "mOsm/kg", "Plasma osmolality threshold for osmotic vasopressin release", "Baylis & Robertson, J R Soc Med 1980";
+    avp_threshold_mosm_kg: 284.0, [260.0, 300.0], "mOsm/kg", "Population-mean plasma osmolality threshold for osmotic vasopressin release; each patient's own threshold is solved at the start within avp_threshold_spread_mosm_kg of it (docs/model.md, the start)", "Baylis & Robertson, J R Soc Med 1980";
+    avp_threshold_spread_mosm_kg: 10.0, [0.0, 30.0], "mOsm/kg", "How far an individual's osmotic threshold may lie from the population mean", "from memory: thresholds of healthy adults in hypertonic-saline studies span about 275-295 mOsm/kg, stable within a person (Robertson's osmoregulation studies)";
     avp_slope_pmol_l_per_mosm: 0.63, [0.05, 3.0], "pmol/L per mOsm/kg", "Slope of plasma vasopressin on plasma osmolality above threshold", "Baylis & Robertson, J R Soc Med 1980";
     avp_half_max_pmol_l: 1.8, [0.1, 20.0], "pmol/L", "Vasopressin giving half the maximal rise of urine osmolality", "urine near maximal at ~5 pg/mL (MODEL.md section 4) (M)";
     avp_hill: 2.0, [0.5, 6.0], "1", "Hill exponent of urine osmolality on vasopressin", "(M)";
     avp_floor_pmol_l: 0.0, [0.0, 50.0], "pmol/L", "Vasopressin secreted whatever the osmolality (unsuppressible antidiuresis)", "model switch";
-    urine_osm_min: 50.0, [30.0, 300.0], "mOsm/kg", "Most dilute urine", "MODEL.md section 4";
+    urine_osm_min: 50.0, [30.0, 300.0], "mOsm/kg", "Most dilute urine of a young adult (30 years)", "common practice: 50-100 mOsm/kg";
+    urine_osm_min_rise_per_year: 0.8, [0.0, 5.0], "mOsm/kg per year over 30", "Rise of the most dilute urine with age (diluting capacity falls)", "from memory: minimum urine osmolality after a water load ~52 mOsm/kg in young and ~92 mOsm/kg in healthy elderly adults (Faull, Holmes & Baylis, Age Ageing 1993)";
     urine_osm_max: 1200.0, [300.0, 1500.0], "mOsm/kg", "Most concentrated urine of a healthy young adult", "MODEL.md section 4";
     urine_osm_max_decline_per_year: 5.0, [0.0, 20.0], "mOsm/kg per year over 30", "Loss of concentrating ability with age", "(M)";
     gfr_ml_min: 120.0, [5.0, 200.0], "mL/min", "Glomerular filtration rate", "common practice";
@@ -168,7 +171,15 @@ parameters! {
     thiazide_k_mmol_h: 1.5, [0.0, 50.0], "mmol/h", "Extra potassium excretion at full thiazide effect", "(M)";
     ckd_gfr_ml_min: 60.0, [10.0, 120.0], "mL/min", "GFR below which the concentrating and diluting range narrows in proportion", "(M)";
     food_water_l_day: 0.7, [0.0, 3.0], "L/day", "Water eaten in food, part of the habitual intake; a fluid restriction limits drinks and leaves it", "from memory: textbook adult water-balance tables give ~0.7-1.0 L/day of water in food (M)";
-    habitual_water_l_day: 0.0, [0.0, 30.0], "L/day", "Habitual water intake (0: whatever balances output at the start)", "patient state";
+    habitual_water_l_day: 0.0, [0.0, 30.0], "L/day", "Habitual water intake, drinks and food water (0: the default for the sex, habitual_water_man_l_day or habitual_water_woman_l_day)", "patient state";
+    habitual_water_man_l_day: 2.5, [0.5, 10.0], "L/day", "Default habitual water intake (drinks and food water), men", "EFSA Panel on Dietetic Products, Nutrition and Allergies, EFSA Journal 2010;8(3):1459: adequate intake of total water 2.5 L/day for adult men";
+    habitual_water_woman_l_day: 2.0, [0.5, 10.0], "L/day", "Default habitual water intake (drinks and food water), women", "EFSA Panel on Dietetic Products, Nutrition and Allergies, EFSA Journal 2010;8(3):1459: adequate intake of total water 2.0 L/day for adult women";
+    unexplained_water_intake_max_l_day: 4.0, [1.0, 30.0], "L/day", "Largest habitual water intake a start may need without a cause that explains it (more is primary polydipsia)", "from memory: daily water intake of healthy adults rarely exceeds 3-4 L";
+    na_reference_low_mmol_l: 135.0, [120.0, 140.0], "mmol/L", "Lower end of the serum sodium reference interval", "common practice";
+    na_reference_high_mmol_l: 145.0, [140.0, 160.0], "mmol/L", "Upper end of the serum sodium reference interval", "common practice";
+    na_excretion_max_filtered_fraction: 0.1, [0.01, 0.5], "1", "Largest sodium excretion as a share of the filtered load", "from memory: fractional sodium excretion rarely exceeds ~10 % even in maximal natriuresis";
+    drug_electrolyte_scale_max: 1.5, [1.0, 5.0], "1", "Cap on the scaling of diuretic-driven sodium and potassium losses with plasma concentration relative to the start", "model choice (keeps drug losses bounded in extreme states)";
+    interstitial_knee_width_fraction: 0.02, [0.001, 0.2], "1", "Width of the smooth knee of the interstitial pressure-volume curve, as a share of resting interstitial volume", "model choice (numerical smoothing of Guyton's curve)";
     thirst_enabled: 0.0, [0.0, 1.0], "1", "1 = the patient drinks when thirsty; 0 = drinks only what the scenario gives", "model switch";
     thirst_threshold_mosm_kg: 298.0, [280.0, 320.0], "mOsm/kg", "Plasma osmolality at which thirst begins", "Baylis & Robertson, J R Soc Med 1980";
     thirst_gain_l_h_per_mosm: 0.1, [0.0, 2.0], "L/h per mOsm/kg", "Drinking rate per mOsm/kg above the thirst threshold", "(M)";

@@ -66,6 +66,11 @@ pub fn per_day_to_per_h(x: f64) -> f64 {
     x / 24.0
 }
 
+/// Per hour to per day.
+pub fn per_h_to_per_day(x: f64) -> f64 {
+    x * 24.0
+}
+
 /// van't Hoff factor RT in mmHg per mOsm/L at a temperature in °C:
 /// an osmolality difference of 1 mOsm/L across an ideal semipermeable
 /// membrane balances this hydrostatic pressure (19.34 mmHg at 37 °C).

@@ -49,7 +49,7 @@ ALIASES = {
 }
 
 # Page names that the page itself places in the calibration section.
-CALIBRATION_FIRST = {"urine_osm_max"}
+CALIBRATION_FIRST = {"urine_osm_max", "urine_osm_min", "avp_threshold_mosm_kg"}
 
 
 class DumpError(ValueError):

@@ -1,19 +1,13 @@
-//! Kidney and antidiuretic hormone (MODEL.md section 4).
+//! The kidney (docs/model.md, the kidney).
 //!
-//! Vasopressin rises linearly with plasma osmolality above a threshold
-//! (Baylis & Robertson 1980); urine osmolality rises with V2 agonism from a
-//! minimum to a maximum; solute excretion follows balance at rest, the
+//! Urine osmolality rises with V2 agonism (vasopressin, set in
+//! [`super::osmoregulation`], plus drugs) from a minimum to a maximum, both
+//! of which narrow with age; solute excretion follows balance at rest, the
 //! extracellular volume (sodium), plasma potassium, filtered urea and
 //! filtered glucose above threshold. Urine flow is solute excretion divided
 //! by urine osmolality.
 
-use super::{power, smooth_positive, smooth_ramp};
-
-/// Osmotically driven plasma vasopressin, pmol/L:
-/// `slope · max(0, P_osm − threshold)`, with a 0.5 mOsm/kg smooth corner.
-pub fn osmotic_vasopressin_pmol_l(plasma_osm: f64, threshold: f64, slope: f64) -> f64 {
-    slope * smooth_positive(plasma_osm - threshold, 0.5)
-}
+use super::{power, smooth_ramp};
 
 /// Urine osmolality (mOsm/kg) for a V2 agonist level `avp_pmol_l`
 /// (endogenous vasopressin plus drug equivalents): a Hill curve between
@@ -26,14 +20,8 @@ pub fn urine_osmolality(avp_pmol_l: f64, min: f64, max: f64, half_pmol_l: f64, h
 /// Maximal urine osmolality at a given age: declines linearly after 30
 /// years, never below 500 mOsm/kg.
 pub fn max_urine_osmolality_for_age(max_young: f64, decline_per_year: f64, age_years: f64) -> f64 {
-    (max_young - decline_per_year * (age_years - 30.0).max(0.0)).max(500.0_f64.min(max_young))
-}
-
-/// Vasopressin released by a fall of blood volume (pmol/L): `gain ·
-/// max(0, deficit − threshold)` where `deficit` is the fraction of normal
-/// blood volume missing (non-osmotic release, steep past ~8–10 % loss).
-pub fn volume_vasopressin_pmol_l(deficit_fraction: f64, threshold: f64, gain: f64) -> f64 {
-    gain * smooth_ramp(deficit_fraction - threshold, 0.01)
+    (max_young - decline_per_year * (age_years - YOUNG_ADULT_AGE_YEARS).max(0.0))
+        .max(OLD_AGE_MAX_URINE_FLOOR_MOSM_KG.min(max_young))
 }
 
 /// Range of urine osmolality (min, max) narrowed in proportion to GFR
@@ -41,9 +29,33 @@ pub fn volume_vasopressin_pmol_l(deficit_fraction: f64, threshold: f64, gain: f6
 /// ~300 mOsm/kg).
 pub fn concentrating_range(min: f64, max: f64, gfr: f64, ckd_gfr: f64) -> (f64, f64) {
     let f = (gfr / ckd_gfr).min(1.0);
-    let iso = 300.0;
-    (iso + (min - iso) * f, iso + (max - iso) * f)
+    (
+        ISOSTHENURIC_MOSM_KG + (min - ISOSTHENURIC_MOSM_KG) * f,
+        ISOSTHENURIC_MOSM_KG + (max - ISOSTHENURIC_MOSM_KG) * f,
+    )
 }
+
+/// Urine osmolality of a kidney that can neither concentrate nor dilute
+/// (isosthenuria: the osmolality of plasma), mOsm/kg. A fact of physiology,
+/// not a tunable parameter (common practice: ~300 mOsm/kg).
+pub const ISOSTHENURIC_MOSM_KG: f64 = 300.0;
+
+/// Most concentrated urine at a given age can fall no lower than this
+/// (mOsm/kg): even old kidneys concentrate above plasma (from memory:
+/// healthy octogenarians still reach ~500 mOsm/kg after overnight thirst).
+pub const OLD_AGE_MAX_URINE_FLOOR_MOSM_KG: f64 = 500.0;
+
+/// Most dilute urine at a given age (mOsm/kg): rises linearly after 30
+/// years, the diluting capacity falling with age, and never above
+/// isosthenuria.
+pub fn min_urine_osmolality_for_age(min_young: f64, rise_per_year: f64, age_years: f64) -> f64 {
+    (min_young + rise_per_year * (age_years - YOUNG_ADULT_AGE_YEARS).max(0.0))
+        .min(ISOSTHENURIC_MOSM_KG)
+}
+
+/// Age from which the concentrating and diluting range narrows, years
+/// (common practice: renal ageing is counted from the fourth decade).
+pub const YOUNG_ADULT_AGE_YEARS: f64 = 30.0;
 
 /// Urine flow (L/h) = osmolar excretion (mOsm/h) / urine osmolality
 /// (mOsm/kg, ≈ mOsm/L of urine water).
@@ -92,8 +104,7 @@ mod tests {
     use super::*;
 
     #[test]
-    fn vasopressin_threshold_and_urine_range() {
-        assert!(osmotic_vasopressin_pmol_l(270.0, 284.0, 0.63) < 1e-6);
+    fn urine_range_spans_min_to_max() {
         let u_low = urine_osmolality(0.0, 50.0, 1200.0, 1.8, 2.0);
         let u_high = urine_osmolality(50.0, 50.0, 1200.0, 1.8, 2.0);
         assert!((u_low - 50.0).abs() < 1e-12);
@@ -112,5 +123,15 @@ mod tests {
         assert_eq!(max_urine_osmolality_for_age(1200.0, 5.0, 25.0), 1200.0);
         assert_eq!(max_urine_osmolality_for_age(1200.0, 5.0, 80.0), 950.0);
         assert_eq!(max_urine_osmolality_for_age(1200.0, 5.0, 200.0), 500.0);
+    }
+
+    #[test]
+    fn age_raises_the_most_dilute_urine() {
+        // Faull, Holmes & Baylis, Age Ageing 1993 (from memory): ~52 mOsm/kg
+        // in the young, ~92 mOsm/kg in healthy elderly after a water load.
+        assert_eq!(min_urine_osmolality_for_age(50.0, 0.8, 25.0), 50.0);
+        let old = min_urine_osmolality_for_age(50.0, 0.8, 80.0);
+        assert!((80.0..=100.0).contains(&old), "{old}");
+        assert_eq!(min_urine_osmolality_for_age(50.0, 0.8, 500.0), 300.0);
     }
 }

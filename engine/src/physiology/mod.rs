@@ -2,11 +2,13 @@
 //! concentrations, volumes and parameters. None of them knows the state
 //! layout or the solver; [`crate::model`] wires them together.
 
+pub mod blood_volume;
 pub mod brain;
 pub mod capillary;
 pub mod glucose;
 pub mod kidney;
 pub mod membrane;
+pub mod osmoregulation;
 pub mod potassium;
 
 /// `x^e`, with the exponents the default parameters use (0, 1, 2) taken

@@ -15,7 +15,7 @@
 //!
 //! let script = r#"
 //!     title("Hypertonic boluses with a stop rule");
-//!     patient(#{ sex: "female", age_years: 70, weight_kg: 60, na: 118, onset: "chronic" });
+//!     patient(#{ sex: "female", age_years: 70, weight_kg: 60, na: 118, onset: "chronic", cause: "siad" });
 //!     run_for(hours(24));
 //!     at(hours(0), infuse("saline_3", ml(150), minutes(20)).labelled("bolus"));
 //!     every(minutes(30), |labs| {
@@ -782,7 +782,7 @@ mod tests {
     use super::*;
 
     const PATIENT: &str =
-        "patient(#{ sex: \"male\", age_years: 50, weight_kg: 80, na: 125, onset: \"chronic\" });\n";
+        "patient(#{ sex: \"male\", age_years: 50, weight_kg: 80, na: 125, onset: \"chronic\", cause: \"inappropriate_antidiuresis\" });\n";
 
     fn load(body: &str) -> Result<Scenario, ScenarioError> {
         Scenario::from_source("t.rhai", &format!("{PATIENT}{body}"), Path::new("."))

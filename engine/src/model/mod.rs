@@ -13,9 +13,15 @@ use crate::body::{Body, N_STATES, S};
 use crate::error::InputError;
 use crate::params::Params;
 use crate::patient::{Onset, ResolvedPatient};
-use crate::physiology::{brain, capillary, glucose, kidney, membrane, potassium};
+use crate::physiology::{
+    blood_volume, brain, capillary, glucose, kidney, membrane, osmoregulation, potassium,
+};
 use crate::units;
 use serde::Serialize;
+
+mod start;
+use start::balance_the_start;
+pub use start::habitual_water_l_day;
 
 /// Mechanisms that can be switched off as a whole.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -283,6 +289,57 @@ pub struct Calibration {
     pub habitual_na_mmol_h: f64,
     /// Habitual potassium intake, mmol/h.
     pub habitual_k_mmol_h: f64,
+    /// This patient's osmotic threshold for vasopressin, mOsm/kg (solved at
+    /// the start so that the habitual intake is in balance).
+    pub avp_threshold_mosm_kg: f64,
+    /// How the start was made steady, in the units a clinician reads.
+    pub start: StartBalance,
+}
+
+/// Where the habitual water intake of the start came from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum WaterIntakeSource {
+    /// Given by the scenario or the cause (`habitual_water_l_day`).
+    Given,
+    /// The documented default for the sex.
+    DefaultForSex,
+    /// Solved so that the start is steady: no osmotic threshold within the
+    /// admissible window balances the given intake (another stimulus holds
+    /// vasopressin up, or there is too much or too little solute).
+    SolvedForBalance,
+    /// No habitual intake (switched off) or no kidneys.
+    NotApplicable,
+}
+
+/// The start's water and solute balance, as shown in reports.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct StartBalance {
+    /// Habitual water intake (drinks and food water), L/day.
+    pub habitual_water_l_day: f64,
+    /// Where it came from.
+    pub water_intake_source: WaterIntakeSource,
+    /// Habitual sodium intake, mmol/day.
+    pub habitual_na_mmol_day: f64,
+    /// Habitual potassium intake, mmol/day.
+    pub habitual_k_mmol_day: f64,
+    /// Urea generated from protein eaten, mmol/day.
+    pub urea_generation_mmol_day: f64,
+    /// Plasma vasopressin at the start, pmol/L.
+    pub vasopressin_pmol_l: f64,
+    /// Urine flow at the start, L/day.
+    pub urine_l_day: f64,
+    /// Urine osmolality at the start, mOsm/kg.
+    pub urine_osm_mosm_kg: f64,
+    /// Blood volume at the start, L.
+    pub blood_volume_l: f64,
+    /// Plasma volume at the start, L.
+    pub plasma_volume_l: f64,
+    /// How blood volume was predicted.
+    pub blood_volume_method: &'static str,
+    /// Whether water intake and output balance at the start (false when a
+    /// given intake cannot be balanced by any admissible threshold).
+    pub steady: bool,
 }
 
 /// The model: parameters, calibration and switches. Pure: it holds no
@@ -362,6 +419,8 @@ pub struct Fluxes {
     pub thirst_water_l_h: f64,
     /// Blood volume, L.
     pub blood_volume_l: f64,
+    /// Hematocrit, fraction.
+    pub hematocrit: f64,
     /// Fraction of blood volume lost per hour, 1/h.
     pub blood_loss_per_h: f64,
 }
@@ -449,15 +508,40 @@ impl Model {
         let size = patient.weight_kg / 70.0;
         let rt = units::van_t_hoff_mmhg_per_mosm_l(p.body_temperature_c);
 
-        // --- water compartments (MODEL.md section 1 rules of thumb) -------
+        // --- water compartments (docs/model.md, compartments) ---------------
         let tbw = patient.total_water_l;
         let icf = p.icf_fraction * tbw;
         let ecf = tbw - icf;
-        let v_p = p.plasma_fraction_of_ecf * ecf;
+        let (blood_volume_start, blood_volume_method) = match patient.height_cm {
+            Some(h) => (
+                blood_volume::nadler_l(patient.sex, h / 100.0, patient.weight_kg),
+                "Nadler (sex, height, weight)",
+            ),
+            None => (
+                blood_volume::per_kg_l(
+                    match patient.sex {
+                        crate::patient::Sex::Male => p.blood_volume_ml_kg_man,
+                        crate::patient::Sex::Female => p.blood_volume_ml_kg_woman,
+                    },
+                    patient.weight_kg,
+                ),
+                "per kg of weight (no height given)",
+            ),
+        };
+        let (plasma_volume, red_cell_volume) =
+            blood_volume::split(blood_volume_start, patient.hematocrit);
+        let v_p = plasma_volume * p.plasma_water_fraction;
+        if v_p >= 0.5 * ecf {
+            return Err(InputError::Conflict {
+                field: "weight_kg".into(),
+                other: "total body water".into(),
+                why: format!(
+                    "the predicted plasma water ({v_p:.1} L) would be half or more of the extracellular water ({ecf:.1} L)"
+                ),
+            });
+        }
         let v_i = ecf - v_p;
-        let plasma_volume = v_p / p.plasma_water_fraction;
         let plasma_solids = plasma_volume - v_p;
-        let red_cell_volume = plasma_volume * patient.hematocrit / (1.0 - patient.hematocrit);
         let v_r = p.rbc_water_fraction * red_cell_volume;
         let red_cell_solids = red_cell_volume - v_r;
 
@@ -520,7 +604,7 @@ impl Model {
             p_i0,
             e_low,
             e_low / p.oedema_compliance_ratio,
-            0.02 * v_i,
+            p.interstitial_knee_width_fraction * v_i,
         );
         let lymph_scale =
             capillary::lymph_scale_mmhg(p_i0, p.lymph_half_pressure_mmhg, p.lymph_max_ratio);
@@ -570,7 +654,11 @@ impl Model {
         let k_excretion0 = units::per_day_to_per_h(p.k_intake_mmol_day);
         let urea_fe = (urea_generation / (gfr_l_h * patient.urea_mmol_l)).clamp(0.05, 1.0);
         let (urine_osm_min, urine_osm_max) = kidney::concentrating_range(
-            p.urine_osm_min,
+            kidney::min_urine_osmolality_for_age(
+                p.urine_osm_min,
+                p.urine_osm_min_rise_per_year,
+                patient.age_years,
+            ),
             kidney::max_urine_osmolality_for_age(
                 p.urine_osm_max,
                 p.urine_osm_max_decline_per_year,
@@ -622,7 +710,7 @@ impl Model {
             insensible_l_h: units::ml_to_l(units::per_day_to_per_h(p.insensible_ml_day)) * size,
             gfr_l_h,
             na_excretion0_mmol_h: na_excretion0,
-            na_excretion_max_mmol_h: 0.1 * gfr_l_h * patient.na,
+            na_excretion_max_mmol_h: p.na_excretion_max_filtered_fraction * gfr_l_h * patient.na,
             k_excretion0_mmol_h: k_excretion0,
             k0_mmol_l: patient.k,
             na0_mmol_l: patient.na,
@@ -631,6 +719,21 @@ impl Model {
             habitual_water_l_h: 0.0,
             habitual_na_mmol_h: 0.0,
             habitual_k_mmol_h: 0.0,
+            avp_threshold_mosm_kg: p.avp_threshold_mosm_kg,
+            start: StartBalance {
+                habitual_water_l_day: 0.0,
+                water_intake_source: WaterIntakeSource::NotApplicable,
+                habitual_na_mmol_day: 0.0,
+                habitual_k_mmol_day: 0.0,
+                urea_generation_mmol_day: units::per_h_to_per_day(urea_generation),
+                vasopressin_pmol_l: 0.0,
+                urine_l_day: 0.0,
+                urine_osm_mosm_kg: 0.0,
+                blood_volume_l: blood_volume_start,
+                plasma_volume_l: plasma_volume,
+                blood_volume_method,
+                steady: true,
+            },
         };
 
         let mut y = vec![0.0; N_STATES];
@@ -662,35 +765,7 @@ impl Model {
         y[S::RedCellOsmoles as usize] = red_cell_osmoles;
         y[S::BrainOsmolytes as usize] = brain_osmolytes;
 
-        // The collecting duct starts in step with plasma vasopressin.
-        {
-            let probe = Model {
-                params: p.clone(),
-                calibration: calibration.clone(),
-                switches,
-            };
-            y[S::RenalV2Effect as usize] = probe.fluxes(&y, &Inputs::default()).v2_target_pmol_l;
-        }
-        // Habitual intake balances resting output (free-living steady state)
-        // unless a habitual water intake is given. The simulation starts it
-        // as a stream labelled "habitual" that a scenario can stop.
-        if switches.habitual_intake {
-            let probe = Model {
-                params: p.clone(),
-                calibration: calibration.clone(),
-                switches,
-            };
-            let f = probe.fluxes(&y, &Inputs::default());
-            calibration.habitual_water_l_h = if p.habitual_water_l_day > 0.0 {
-                units::per_day_to_per_h(p.habitual_water_l_day)
-            } else {
-                (f.urine_l_h + f.insensible_l_h - f.metabolic_water_l_h).max(0.0)
-            };
-            if switches.kidneys {
-                calibration.habitual_na_mmol_h = f.urine_na_mmol_h;
-                calibration.habitual_k_mmol_h = f.urine_k_mmol_h;
-            }
-        }
+        balance_the_start(patient, p, switches, &mut calibration, &mut y)?;
         Ok((
             Model {
                 params: p.clone(),
@@ -767,7 +842,7 @@ impl Model {
             v_r + c.red_cell_solids_l * s(S::RedCellOsmoles) / c.red_cell_osmoles0;
         let plasma_protein = s(S::AlbuminPlasma) + s(S::GlobulinPlasma);
         let plasma_volume = v_p + c.plasma_solids_l * plasma_protein / c.plasma_protein0_g;
-        let blood_volume = plasma_volume + red_cell_volume;
+        let (hematocrit, blood_volume) = blood_volume::hematocrit(red_cell_volume, plasma_volume);
         let capillary_mmhg =
             c.capillary0_mmhg + c.blood_elastance_mmhg_l * (blood_volume - c.blood_volume0_l);
         let interstitial_mmhg = c.interstitium.pressure_mmhg(v_i);
@@ -826,23 +901,18 @@ impl Model {
 
         // Kidney and vasopressin.
         let plasma_osm = 2.0 * na_p + g_p + u_p;
-        let osmotic_avp = kidney::osmotic_vasopressin_pmol_l(
+        let osmotic_avp = osmoregulation::osmotic_vasopressin_pmol_l(
             plasma_osm,
-            p.avp_threshold_mosm_kg,
+            c.avp_threshold_mosm_kg,
             p.avp_slope_pmol_l_per_mosm,
         );
-        let volume_avp = kidney::volume_vasopressin_pmol_l(
+        let volume_avp = osmoregulation::volume_vasopressin_pmol_l(
             1.0 - blood_volume / c.blood_volume_normal_l,
             p.volume_avp_threshold_fraction,
             p.volume_avp_gain_pmol_l,
         );
-        let stimulated = osmotic_avp + volume_avp;
-        let vasopressin = if p.avp_floor_pmol_l > 0.0 {
-            p.avp_floor_pmol_l
-                + crate::physiology::smooth_positive(stimulated - p.avp_floor_pmol_l, 0.2)
-        } else {
-            stimulated
-        };
+        let vasopressin =
+            osmoregulation::plasma_vasopressin_pmol_l(osmotic_avp + volume_avp, p.avp_floor_pmol_l);
         // V2 agonism: vasopressin plus desmopressin, blunted by an antagonist;
         // the collecting duct follows it with a lag (state RenalV2Effect).
         let desmopressin_equiv =
@@ -870,14 +940,14 @@ impl Model {
                 c.na_excretion_max_mmol_h,
             ) + (loop_effect * p.loop_diuretic_na_mmol_h
                 + thiazide * p.thiazide_na_mmol_h)
-                * (na_p / c.na0_mmol_l).min(1.5);
+                * (na_p / c.na0_mmol_l).min(p.drug_electrolyte_scale_max);
             let e_k = kidney::potassium_excretion_mmol_h(
                 c.k_excretion0_mmol_h,
                 k_p,
                 c.k0_mmol_l,
                 p.kaliuresis_exponent,
             ) + (loop_effect * p.loop_diuretic_k_mmol_h + thiazide * p.thiazide_k_mmol_h)
-                * (k_p / c.k0_mmol_l).min(1.5);
+                * (k_p / c.k0_mmol_l).min(p.drug_electrolyte_scale_max);
             let e_u = c.urea_fractional_excretion * c.gfr_l_h * u_p.max(0.0);
             let e_g =
                 kidney::glucose_excretion_mmol_h(c.gfr_l_h, g_p, p.glucose_renal_threshold_mmol_l);
@@ -925,17 +995,17 @@ impl Model {
             glucose_production_mmol_h: c.glucose_production_mmol_h,
             v2_target_pmol_l: v2_target,
             thirst_water_l_h: if p.thirst_enabled >= 0.5 {
-                p.thirst_max_l_h.min(
-                    p.thirst_gain_l_h_per_mosm
-                        * crate::physiology::smooth_ramp(
-                            plasma_osm - p.thirst_threshold_mosm_kg,
-                            0.5,
-                        ),
+                osmoregulation::thirst_drinking_l_h(
+                    plasma_osm,
+                    p.thirst_threshold_mosm_kg,
+                    p.thirst_gain_l_h_per_mosm,
+                    p.thirst_max_l_h,
                 )
             } else {
                 0.0
             },
             blood_volume_l: blood_volume,
+            hematocrit,
             blood_loss_per_h: u.blood_loss_l_h / blood_volume.max(1e-9),
         }
     }
@@ -1093,10 +1163,6 @@ impl Model {
         let k = conc(s(S::KPlasma), v_p);
         let g = conc(s(S::GlucosePlasma), v_p);
         let urea = conc(s(S::UreaPlasma), v_p);
-        let red_cell_volume =
-            s(S::RedCellsL) + c.red_cell_solids_l * s(S::RedCellOsmoles) / c.red_cell_osmoles0;
-        let plasma_protein = s(S::AlbuminPlasma) + s(S::GlobulinPlasma);
-        let plasma_volume = v_p + c.plasma_solids_l * plasma_protein / c.plasma_protein0_g;
         let osm = 2.0 * na + g + urea;
         let urine_ml_h = units::l_to_ml(f.urine_l_h);
         let (u_na, u_k) = if f.urine_l_h > 1e-12 {
@@ -1122,8 +1188,8 @@ impl Model {
             plasma_l: v_p,
             total_water_l: crate::body::Species::Water.content(y),
             brain_volume_index: s(S::BrainL) / c.brain_normal_l,
-            hematocrit: red_cell_volume / (red_cell_volume + plasma_volume),
-            blood_volume_l: red_cell_volume + plasma_volume,
+            hematocrit: f.hematocrit,
+            blood_volume_l: f.blood_volume_l,
             capillary_mmhg: f.capillary_mmhg,
             interstitial_mmhg: f.interstitial_mmhg,
             plasma_colloid_mmhg: f.plasma_colloid_mmhg,
@@ -1193,6 +1259,51 @@ mod tests {
         assert!((24.0..=28.0).contains(&v_c), "{v_c}");
         let v_r = body.get(S::RedCellsL);
         assert!((1.5..=2.2).contains(&v_r), "{v_r}");
+    }
+
+    fn healthy_at(na: f64) -> Model {
+        let params = Params::default();
+        let mut patient = Patient::healthy("male", 30.0, 75.0);
+        patient.na = Some(na);
+        let patient = patient.resolve(&params).unwrap();
+        Model::new(&patient, &params, Switches::default())
+            .unwrap()
+            .0
+    }
+
+    #[test]
+    fn a_healthy_start_drinks_and_passes_ordinary_amounts() {
+        // Issue acceptance: urine 0.6-2.5 L/day at 136, 140 and 144 mmol/L
+        // with the default intake (EFSA 2010: 2.5 L/day for men).
+        for na in [136.0, 140.0, 144.0] {
+            let s = healthy_at(na).calibration.start;
+            assert!(
+                (0.6..=2.5).contains(&s.urine_l_day),
+                "Na {na}: urine {} L/day",
+                s.urine_l_day
+            );
+            assert!((1.5..=3.0).contains(&s.habitual_water_l_day), "{s:?}");
+            assert!((50.0..=1200.0).contains(&s.urine_osm_mosm_kg), "{s:?}");
+        }
+    }
+
+    #[test]
+    fn an_unexplained_low_sodium_is_refused_naming_the_causes() {
+        let params = Params::default();
+        let mut patient = Patient::healthy("female", 70.0, 60.0);
+        patient.na = Some(125.0);
+        let patient = patient.resolve(&params).unwrap();
+        let err = Model::new(&patient, &params, Switches::default()).unwrap_err();
+        let text = err.to_string();
+        assert!(text.contains("inappropriate_antidiuresis"), "{text}");
+        assert!(text.contains("135"), "{text}");
+    }
+
+    #[test]
+    fn blood_volume_follows_the_published_prediction() {
+        // 70 mL/kg for a man without a height (common practice).
+        let m = healthy_at(140.0);
+        assert!((m.calibration.start.blood_volume_l - 5.25).abs() < 1e-9);
     }
 
     #[test]

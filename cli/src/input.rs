@@ -93,6 +93,9 @@ pub struct RunInput {
     pub source: String,
     /// Patient as given and as derived (volumes, contents).
     pub patient: Vec<Row>,
+    /// How the start was made steady (habitual intake, vasopressin,
+    /// threshold, urine, blood volume).
+    pub start: StartSummary,
     /// The plan.
     pub plan: PlanSummary,
     /// The simulated course.
@@ -121,6 +124,7 @@ impl RunInput {
             description: heading.description,
             source: heading.source,
             patient: patient_rows(&sim),
+            start: StartSummary::of(&sim),
             plan: plan_summary(plan),
             trajectory,
             expectations,
@@ -228,6 +232,37 @@ fn snake(debug: &str) -> String {
     out
 }
 
+/// The start's balance as `summary.json` carries it.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct StartSummary {
+    /// The patient's own osmotic threshold for vasopressin, mOsm/kg.
+    pub osmotic_threshold_mosm_kg: f64,
+    /// The balance of the start, each value with its unit in its name.
+    #[serde(flatten)]
+    pub balance: tidewater::StartBalance,
+}
+
+impl StartSummary {
+    /// The start of a simulation.
+    pub fn of(sim: &Simulation) -> StartSummary {
+        let c = &sim.model().calibration;
+        StartSummary {
+            osmotic_threshold_mosm_kg: c.avp_threshold_mosm_kg,
+            balance: c.start,
+        }
+    }
+}
+
+/// How the habitual water intake was set, in words.
+fn intake_source(s: tidewater::WaterIntakeSource) -> &'static str {
+    match s {
+        tidewater::WaterIntakeSource::Given => "given",
+        tidewater::WaterIntakeSource::DefaultForSex => "default for the sex",
+        tidewater::WaterIntakeSource::SolvedForBalance => "solved so that the start balances",
+        tidewater::WaterIntakeSource::NotApplicable => "none (habitual intake off)",
+    }
+}
+
 /// The patient as resolved, with initial volumes and contents.
 pub fn patient_rows(sim: &Simulation) -> Vec<Row> {
     let p = sim.patient();
@@ -264,11 +299,56 @@ pub fn patient_rows(sim: &Simulation) -> Vec<Row> {
         row("Plasma water", format!("{} L", fixed(obs.plasma_l, 2))),
         row(
             "Blood volume",
-            format!("{} L", fixed(obs.blood_volume_l, 2)),
+            format!(
+                "{} L ({})",
+                fixed(obs.blood_volume_l, 2),
+                sim.model().calibration.start.blood_volume_method
+            ),
         ),
         row(
             "Effective osmolality (tonicity)",
             format!("{} mOsm/kg", fixed(obs.tonicity_mosm_kg, 0)),
+        ),
+    ]);
+    let c = &sim.model().calibration;
+    let st = &c.start;
+    rows.extend([
+        row(
+            "Habitual water intake (drinks and food)",
+            format!(
+                "{} L/day ({})",
+                fixed(st.habitual_water_l_day, 2),
+                intake_source(st.water_intake_source)
+            ),
+        ),
+        row(
+            "Habitual salt intake",
+            format!("{} mmol/day of sodium", fixed(st.habitual_na_mmol_day, 0)),
+        ),
+        row(
+            "Urea from protein",
+            format!("{} mmol/day", fixed(st.urea_generation_mmol_day, 0)),
+        ),
+        row(
+            "Vasopressin at the start",
+            format!("{} pmol/L", fixed(st.vasopressin_pmol_l, 2)),
+        ),
+        row(
+            "Osmotic threshold (this patient)",
+            format!("{} mOsm/kg", fixed(c.avp_threshold_mosm_kg, 1)),
+        ),
+        row(
+            "Urine at the start",
+            format!(
+                "{} L/day at {} mOsm/kg{}",
+                fixed(st.urine_l_day, 2),
+                fixed(st.urine_osm_mosm_kg, 0),
+                if st.steady {
+                    ""
+                } else {
+                    " (not steady: the given intake is not balanced)"
+                }
+            ),
         ),
     ]);
     for sp in Species::ALL {

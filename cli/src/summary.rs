@@ -104,6 +104,8 @@ pub struct Summary {
     pub duration_h: f64,
     /// Number of samples.
     pub samples: usize,
+    /// How the start was made steady.
+    pub start: crate::input::StartSummary,
     /// Serum sodium in brief.
     pub sodium: SodiumSummary,
     /// Guideline set.
@@ -178,6 +180,7 @@ impl Summary {
             title: input.title.clone(),
             description: input.description.clone(),
             source: input.source.clone(),
+            start: input.start.clone(),
             caution: CAUTION.to_string(),
             duration_h: round_sig(last.time_h - first.time_h, DIGITS),
             samples: traj.samples.len(),

@@ -75,7 +75,7 @@ pub use body::{Body, Species, N_STATES_BODY, S};
 pub use error::{InputError, SimulationError};
 pub use fluids::{Fluid, FluidLibrary};
 pub use limits::{Flag, LimitChoice};
-pub use model::{Inputs, Model, Observation, Switches};
+pub use model::{Inputs, Model, Observation, StartBalance, Switches, WaterIntakeSource};
 pub use params::{Params, PARAMETERS};
 pub use patient::{Patient, ResolvedPatient};
 pub use simulate::{

@@ -95,7 +95,7 @@ fn low_solute_intake_limits_water_excretion() {
 
 #[test]
 fn hypovolemic_vasopressin_fades_as_volume_is_restored() {
-    // MODEL.md section 4: the non-osmotic stimulus fades as volume returns.
+    // docs/model.md, the kidney: the non-osmotic stimulus fades as volume returns.
     let traj = run(Plan::new(patient(124.0, "hypovolemic"))
         .run_for(12.0)
         .start(0.0, give("saline_0_9", 1.5, 3.0)));

@@ -245,7 +245,7 @@ fn brain_after_correction(target: f64) -> (f64, f64) {
 
 #[test]
 fn fast_correction_shrinks_adapted_brain_cells_more_than_slow() {
-    // MODEL.md section 6 (from memory: adapted brain cells regain osmolytes
+    // docs/model.md, brain adaptation (from memory: adapted brain cells regain osmolytes
     // over days, so a fast rise shrinks them below normal).
     let (fast_rise, fast) = brain_after_correction(12.0);
     let (slow_rise, slow) = brain_after_correction(6.0);
@@ -260,7 +260,7 @@ fn fast_correction_shrinks_adapted_brain_cells_more_than_slow() {
 
 #[test]
 fn acute_hyponatremia_swells_brain_cells_and_chronic_does_not() {
-    // MODEL.md section 6 / section 8: without adaptation (acute onset) brain
+    // docs/model.md, brain adaptation and the start: without adaptation (acute onset) brain
     // cells are swollen in proportion to the fall of tonicity.
     let acute = Patient {
         na: Some(120.0),

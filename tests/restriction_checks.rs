@@ -39,7 +39,7 @@ fn restriction_limits_drinks_and_leaves_the_water_in_food() {
     let metabolic = water_intake_l(&without_food) - 2.0 * 0.8;
     assert!(
         (0.4..0.8).contains(&metabolic),
-        "water of metabolism over 48 h: {metabolic:.3} L (MODEL.md: 250-350 mL/day)"
+        "water of metabolism over 48 h: {metabolic:.3} L (docs/model.md: 250-350 mL/day)"
     );
     let food = water_intake_l(&with_food) - water_intake_l(&without_food);
     assert!(

@@ -74,8 +74,8 @@ parameters! {
     na_ref_mmol_l: 140.0, [120.0, 160.0], "mmol/L", "Normal serum sodium: the tonicity brain cells are adapted to at rest", "common practice";
     k_ref_mmol_l: 4.2, [2.0, 7.0], "mmol/L", "Normal serum potassium", "common practice";
     glucose_ref_mmol_l: 5.0, [2.0, 15.0], "mmol/L", "Normal fasting plasma glucose", "common practice";
-    globulin_g_l: 27.0, [5.0, 60.0], "g/L", "Non-albumin plasma protein (total protein ~69 g/L minus albumin ~42 g/L)", "MODEL.md section 3 (M)";
-    cell_k_mmol_l: 140.0, [100.0, 170.0], "mmol/L", "Potassium concentration of cell water at normal tonicity", "MODEL.md section 1 (common practice)";
+    globulin_g_l: 27.0, [5.0, 60.0], "g/L", "Non-albumin plasma protein (total protein ~69 g/L minus albumin ~42 g/L)", "docs/model.md, capillaries and lymph (M)";
+    cell_k_mmol_l: 140.0, [100.0, 170.0], "mmol/L", "Potassium concentration of cell water at normal tonicity", "docs/model.md, compartments (common practice)";
 
     // --- body composition ---------------------------------------------------
     tbw_fraction_man: 0.60, [0.3, 0.8], "L/kg", "Total body water per kg, adult men", "common practice";
@@ -86,45 +86,45 @@ parameters! {
     icf_fraction: 0.6667, [0.4, 0.8], "1", "Intracellular share of total body water (two thirds)", "common practice";
     blood_volume_ml_kg_man: 70.0, [40.0, 120.0], "mL/kg", "Blood volume per kg of body weight, men (used when no height is given)", "common practice: 70 mL/kg in men";
     blood_volume_ml_kg_woman: 65.0, [40.0, 120.0], "mL/kg", "Blood volume per kg of body weight, women (used when no height is given)", "common practice: 65 mL/kg in women";
-    brain_fraction_of_icf: 0.036, [0.01, 0.1], "1", "Brain cell water as a share of intracellular water (~1 L of ~28 L)", "MODEL.md section 1 (M)";
+    brain_fraction_of_icf: 0.036, [0.01, 0.1], "1", "Brain cell water as a share of intracellular water (~1 L of ~28 L)", "docs/model.md, compartments (M)";
     rbc_water_fraction: 0.72, [0.5, 0.9], "1", "Water share of red-cell volume", "physiology tables (M)";
     plasma_water_fraction: 0.93, [0.8, 1.0], "1", "Water share of plasma volume", "common practice";
     hematocrit_man: 0.44, [0.15, 0.7], "1", "Default hematocrit, men", "common practice";
     hematocrit_woman: 0.40, [0.15, 0.7], "1", "Default hematocrit, women", "common practice";
-    albumin_ref_g_l: 42.0, [10.0, 60.0], "g/L", "Default plasma albumin", "MODEL.md section 3: 35-50 g/L (M)";
+    albumin_ref_g_l: 42.0, [10.0, 60.0], "g/L", "Default plasma albumin", "docs/model.md, capillaries and lymph: 35-50 g/L (M)";
     urea_ref_mmol_l: 5.0, [1.0, 60.0], "mmol/L", "Default plasma urea", "common practice";
 
-    // --- cell membranes (MODEL.md section 2) ---------------------------------
+    // --- cell membranes (docs/model.md, cell membranes) ---------------------------------
     body_temperature_c: 37.0, [30.0, 42.0], "degC", "Body temperature for the van't Hoff factor RT", "common practice";
     cell_water_equilibration_min: 4.0, [0.1, 60.0], "min", "Time constant of osmotic water exchange between tissue cells and interstitium (steady state after ~4 time constants)", "Hamilton, Ward & Watson, Am J Physiol 1993: muscle at steady state ~17 min after an osmotic step (M)";
-    rbc_water_equilibration_s: 1.0, [0.01, 60.0], "s", "Time constant of osmotic water exchange between red cells and plasma", "MODEL.md section 2: under a second (M)";
+    rbc_water_equilibration_s: 1.0, [0.01, 60.0], "s", "Time constant of osmotic water exchange between red cells and plasma", "docs/model.md, cell membranes: under a second (M)";
     brain_water_equilibration_min: 4.0, [0.1, 60.0], "min", "Time constant of osmotic water exchange between brain cells and interstitium", "assumed equal to other tissues (M)";
-    sigma_urea_cells: 0.0, [0.0, 1.0], "1", "Reflection coefficient of urea at tissue-cell membranes", "MODEL.md section 2 (urea an ineffective osmole)";
+    sigma_urea_cells: 0.0, [0.0, 1.0], "1", "Reflection coefficient of urea at tissue-cell membranes", "docs/model.md, cell membranes (urea an ineffective osmole)";
     sigma_urea_rbc: 0.65, [0.0, 1.0], "1", "Reflection coefficient of urea at the red-cell membrane", "Toon & Solomon, Biochim Biophys Acta 1987";
-    sigma_urea_brain: 0.0, [0.0, 1.0], "1", "Reflection coefficient of urea at brain-cell membranes", "MODEL.md section 2 (M)";
-    urea_cell_equilibration_min: 10.0, [0.1, 600.0], "min", "Time constant of urea exchange between interstitium and cells", "MODEL.md section 2: minutes (M)";
+    sigma_urea_brain: 0.0, [0.0, 1.0], "1", "Reflection coefficient of urea at brain-cell membranes", "docs/model.md, cell membranes (M)";
+    urea_cell_equilibration_min: 10.0, [0.1, 600.0], "min", "Time constant of urea exchange between interstitium and cells", "docs/model.md, cell membranes: minutes (M)";
     urea_rbc_equilibration_s: 10.0, [0.1, 600.0], "s", "Time constant of urea exchange between plasma and red cells", "(M)";
-    potassium_shift_h: 2.0, [0.1, 48.0], "h", "Time constant for extracellular potassium to approach its distribution equilibrium with cells", "MODEL.md section 5: over hours (M)";
+    potassium_shift_h: 2.0, [0.1, 48.0], "h", "Time constant for extracellular potassium to approach its distribution equilibrium with cells", "docs/model.md, metabolism and insensible loss: over hours (M)";
 
-    // --- capillaries and lymph (MODEL.md section 3) --------------------------
+    // --- capillaries and lymph (docs/model.md, capillaries and lymph) --------------------------
     kf_ml_min_mmhg: 6.67, [0.5, 50.0], "mL/min/mmHg", "Whole-body capillary filtration coefficient", "Guyton & Hall textbook (M)";
     interstitial_pressure_mmhg: -3.0, [-10.0, 5.0], "mmHg", "Interstitial fluid pressure at rest", "Guyton & Hall textbook";
     interstitial_colloid_mmhg: 8.0, [1.0, 20.0], "mmHg", "Interstitial colloid osmotic pressure at rest", "Guyton & Hall textbook";
-    sigma_albumin: 0.9, [0.5, 1.0], "1", "Reflection coefficient of plasma proteins at the capillary wall", "MODEL.md section 3 (M)";
+    sigma_albumin: 0.9, [0.5, 1.0], "1", "Reflection coefficient of plasma proteins at the capillary wall", "docs/model.md, capillaries and lymph (M)";
     capillary_elastance_mmhg: 10.0, [0.5, 100.0], "mmHg per fraction of blood volume", "Rise of capillary pressure per relative blood-volume change (2 mmHg per L at 5 L)", "calibrated: one quarter of isotonic crystalloid stays intravascular (check M4)";
     interstitial_elastance_mmhg: 20.0, [2.0, 200.0], "mmHg per fraction of interstitial volume", "Stiffness of the interstitium while its pressure is negative (1.9 mmHg per L at 10.5 L)", "calibrated against check M4; Guyton's pressure-volume curve (M)";
     oedema_compliance_ratio: 15.0, [1.0, 100.0], "1", "How many times more compliant the interstitium is once its pressure is positive", "Guyton's interstitial pressure-volume curve (M)";
-    lymph_flow_ml_h: 120.0, [20.0, 500.0], "mL/h", "Lymph flow at rest (equals net filtration at rest)", "MODEL.md section 3: 2-3 L/day (Guyton & Hall)";
+    lymph_flow_ml_h: 120.0, [20.0, 500.0], "mL/h", "Lymph flow at rest (equals net filtration at rest)", "docs/model.md, capillaries and lymph: 2-3 L/day (Guyton & Hall)";
     lymph_max_ratio: 20.0, [1.5, 50.0], "1", "Plateau of lymph flow as a multiple of resting flow", "Guyton & Hall lymph flow curve (M)";
     lymph_half_pressure_mmhg: 0.0, [-5.0, 5.0], "mmHg", "Interstitial pressure at which lymph flow is half its plateau", "Guyton & Hall lymph flow curve (M)";
-    albumin_escape_per_h: 0.055, [0.005, 0.3], "1/h", "Transcapillary escape rate of plasma albumin", "MODEL.md section 3: 5-6 %/h; Chahid et al. 2021: 6.2 %/h";
+    albumin_escape_per_h: 0.055, [0.005, 0.3], "1/h", "Transcapillary escape rate of plasma albumin", "docs/model.md, capillaries and lymph: 5-6 %/h; Chahid et al. 2021: 6.2 %/h";
     albumin_return_flow_exponent: 0.0, [0.0, 1.0], "1", "Exponent of albumin return on lymph flow relative to rest (1 = lymph albumin concentration independent of flow)", "(M): lymph protein concentration falls as lymph flow rises";
-    albumin_extravascular_fraction: 0.6, [0.3, 0.8], "1", "Share of body albumin outside the plasma at rest", "MODEL.md section 3: over 60 % (M)";
-    small_solute_exchange_min: 1.0, [0.1, 60.0], "min", "Time constant of small-solute exchange between plasma and interstitium", "MODEL.md section 3: minutes (M)";
+    albumin_extravascular_fraction: 0.6, [0.3, 0.8], "1", "Share of body albumin outside the plasma at rest", "docs/model.md, capillaries and lymph: over 60 % (M)";
+    small_solute_exchange_min: 1.0, [0.1, 60.0], "min", "Time constant of small-solute exchange between plasma and interstitium", "docs/model.md, capillaries and lymph: minutes (M)";
 
-    // --- metabolism and insensible loss (MODEL.md section 5) -----------------
-    insensible_ml_day: 800.0, [0.0, 5000.0], "mL/day", "Insensible loss of solute-free water", "MODEL.md section 5 (common practice)";
-    metabolic_water_ml_day: 300.0, [0.0, 1000.0], "mL/day", "Water of oxidation", "MODEL.md section 5: 250-350 mL/day (common practice)";
+    // --- metabolism and insensible loss (docs/model.md, metabolism and insensible loss) -----------------
+    insensible_ml_day: 800.0, [0.0, 5000.0], "mL/day", "Insensible loss of solute-free water", "docs/model.md, metabolism and insensible loss (common practice)";
+    metabolic_water_ml_day: 300.0, [0.0, 1000.0], "mL/day", "Water of oxidation", "docs/model.md, metabolism and insensible loss: 250-350 mL/day (common practice)";
     glucose_production_mg_kg_min: 2.0, [0.5, 6.0], "mg/kg/min", "Endogenous glucose production at rest", "physiology textbooks (M)";
     glucose_insulin_independent_fraction: 0.5, [0.1, 0.9], "1", "Share of resting glucose disposal that needs no insulin (brain, red cells)", "(M)";
     glucose_uptake_km_mmol_l: 1.5, [0.1, 10.0], "mmol/L", "Half-saturation of insulin-independent glucose uptake", "(M)";
@@ -132,25 +132,25 @@ parameters! {
     insulin_activity: 1.0, [0.0, 3.0], "1", "Insulin action relative to normal (0 = absent)", "model switch";
     urea_generation_mmol_kg_day: 5.7, [0.0, 30.0], "mmol/kg/day", "Urea generation from protein catabolism (about 1 g protein/kg/day)", "common practice (M)";
 
-    // --- kidney and antidiuretic hormone (MODEL.md section 4) ----------------
+    // --- kidney and antidiuretic hormone (docs/model.md, the kidney) ----------------
     avp_threshold_mosm_kg: 284.0, [260.0, 300.0], "mOsm/kg", "Population-mean plasma osmolality threshold for osmotic vasopressin release; each patient's own threshold is solved at the start within avp_threshold_spread_mosm_kg of it (docs/model.md, the start)", "Baylis & Robertson, J R Soc Med 1980";
     avp_threshold_spread_mosm_kg: 10.0, [0.0, 30.0], "mOsm/kg", "How far an individual's osmotic threshold may lie from the population mean", "from memory: thresholds of healthy adults in hypertonic-saline studies span about 275-295 mOsm/kg, stable within a person (Robertson's osmoregulation studies)";
     avp_slope_pmol_l_per_mosm: 0.63, [0.05, 3.0], "pmol/L per mOsm/kg", "Slope of plasma vasopressin on plasma osmolality above threshold", "Baylis & Robertson, J R Soc Med 1980";
-    avp_half_max_pmol_l: 1.8, [0.1, 20.0], "pmol/L", "Vasopressin giving half the maximal rise of urine osmolality", "urine near maximal at ~5 pg/mL (MODEL.md section 4) (M)";
+    avp_half_max_pmol_l: 1.8, [0.1, 20.0], "pmol/L", "Vasopressin giving half the maximal rise of urine osmolality", "urine near maximal at ~5 pg/mL (docs/model.md, the kidney) (M)";
     avp_hill: 2.0, [0.5, 6.0], "1", "Hill exponent of urine osmolality on vasopressin", "(M)";
     avp_floor_pmol_l: 0.0, [0.0, 50.0], "pmol/L", "Vasopressin secreted whatever the osmolality (unsuppressible antidiuresis)", "model switch";
     urine_osm_min: 50.0, [30.0, 300.0], "mOsm/kg", "Most dilute urine of a young adult (30 years)", "common practice: 50-100 mOsm/kg";
     urine_osm_min_rise_per_year: 0.8, [0.0, 5.0], "mOsm/kg per year over 30", "Rise of the most dilute urine with age (diluting capacity falls)", "from memory: minimum urine osmolality after a water load ~52 mOsm/kg in young and ~92 mOsm/kg in healthy elderly adults (Faull, Holmes & Baylis, Age Ageing 1993)";
-    urine_osm_max: 1200.0, [300.0, 1500.0], "mOsm/kg", "Most concentrated urine of a healthy young adult", "MODEL.md section 4";
+    urine_osm_max: 1200.0, [300.0, 1500.0], "mOsm/kg", "Most concentrated urine of a healthy young adult", "docs/model.md, the kidney";
     urine_osm_max_decline_per_year: 5.0, [0.0, 20.0], "mOsm/kg per year over 30", "Loss of concentrating ability with age", "(M)";
     gfr_ml_min: 120.0, [5.0, 200.0], "mL/min", "Glomerular filtration rate", "common practice";
     na_intake_mmol_day: 150.0, [0.0, 600.0], "mmol/day", "Habitual sodium intake (equals excretion at steady state)", "common practice (M)";
     k_intake_mmol_day: 70.0, [0.0, 300.0], "mmol/day", "Habitual potassium intake", "common practice (M)";
     natriuresis_gain: 13.0, [0.0, 100.0], "1", "Log-gain of sodium excretion on relative extracellular volume", "calibrated: excess extracellular volume excreted with a time constant of about a day (M)";
     kaliuresis_exponent: 2.0, [0.0, 6.0], "1", "Exponent of potassium excretion on plasma potassium relative to its start", "(M)";
-    glucose_renal_threshold_mmol_l: 10.0, [5.0, 25.0], "mmol/L", "Plasma glucose above which glucose appears in urine", "MODEL.md section 4";
+    glucose_renal_threshold_mmol_l: 10.0, [5.0, 25.0], "mmol/L", "Plasma glucose above which glucose appears in urine", "docs/model.md, the kidney";
 
-    volume_avp_threshold_fraction: 0.08, [0.0, 0.5], "1", "Blood-volume deficit (fraction of normal) beyond which vasopressin rises without an osmotic stimulus", "MODEL.md section 4: steep rise past ~8-10 % loss (M)";
+    volume_avp_threshold_fraction: 0.08, [0.0, 0.5], "1", "Blood-volume deficit (fraction of normal) beyond which vasopressin rises without an osmotic stimulus", "docs/model.md, the kidney: steep rise past ~8-10 % loss (M)";
     volume_avp_gain_pmol_l: 150.0, [0.0, 2000.0], "pmol/L per fraction of blood volume", "Rise of vasopressin per fraction of blood volume lost beyond the threshold", "(M): ~10 pmol/L at 15 % loss";
     ecf_deficit_fraction: 0.0, [0.0, 0.5], "1", "Extracellular volume deficit at the start, as a fraction of normal (hypovolemia)", "patient state";
     v2_response_h: 0.5, [0.01, 6.0], "h", "Time constant of the collecting duct's response to a change in V2 agonism (vasopressin clearance and water-channel trafficking)", "(M)";
@@ -185,10 +185,10 @@ parameters! {
     thirst_gain_l_h_per_mosm: 0.1, [0.0, 2.0], "L/h per mOsm/kg", "Drinking rate per mOsm/kg above the thirst threshold", "(M)";
     thirst_max_l_h: 1.0, [0.0, 5.0], "L/h", "Largest drinking rate", "(M)";
 
-    // --- brain adaptation (MODEL.md section 6) --------------------------------
+    // --- brain adaptation (docs/model.md, brain adaptation) --------------------------------
     brain_adaptive_fraction: 0.25, [0.0, 0.6], "1", "Share of brain-cell osmoles that can be shed or regained to defend volume", "(M)";
-    brain_osmolyte_loss_h: 24.0, [1.0, 200.0], "h", "Time constant of losing adaptive osmolytes in hypotonicity", "MODEL.md section 6: electrolytes in hours, organic osmolytes 1-2 days (M)";
-    brain_osmolyte_regain_h: 96.0, [1.0, 500.0], "h", "Time constant of regaining adaptive osmolytes on correction", "MODEL.md section 6: several days (M)";
+    brain_osmolyte_loss_h: 24.0, [1.0, 200.0], "h", "Time constant of losing adaptive osmolytes in hypotonicity", "docs/model.md, brain adaptation: electrolytes in hours, organic osmolytes 1-2 days (M)";
+    brain_osmolyte_regain_h: 96.0, [1.0, 500.0], "h", "Time constant of regaining adaptive osmolytes on correction", "docs/model.md, brain adaptation: several days (M)";
 }
 
 impl Params {

@@ -76,7 +76,7 @@ pub enum Sex {
 }
 
 /// How long the disorder has been present: decides whether brain cells
-/// start adapted (MODEL.md section 8).
+/// start adapted (docs/model.md, the start).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 pub enum Onset {
     /// Less than 48 h: brain osmolytes at their normal content.

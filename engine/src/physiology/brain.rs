@@ -1,4 +1,4 @@
-//! Brain-cell volume regulation (MODEL.md section 6).
+//! Brain-cell volume regulation (docs/model.md, brain adaptation).
 //!
 //! Brain cells hold a pool of adaptive osmolytes (electrolytes shed within
 //! hours, organic osmolytes over days). The pool relaxes toward the content

@@ -1,4 +1,4 @@
-//! Capillary wall and lymph: plasma ↔ interstitium (MODEL.md section 3).
+//! Capillary wall and lymph: plasma ↔ interstitium (docs/model.md, capillaries and lymph).
 //!
 //! Fluid filtration follows Starling:
 //! `J_v = K_f [(P_c − P_i) − σ (π_plasma − π_interstitium)]`,

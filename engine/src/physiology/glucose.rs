@@ -1,4 +1,4 @@
-//! Glucose: endogenous production and disposal (MODEL.md section 5).
+//! Glucose: endogenous production and disposal (docs/model.md, metabolism and insensible loss).
 //!
 //! Glucose stays in the extracellular fluid, where it is an effective osmole
 //! at cell membranes whose uptake needs insulin. Disposal has an

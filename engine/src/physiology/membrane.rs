@@ -1,7 +1,7 @@
 //! Cell membranes: osmotic water flow and permeant-solute exchange.
 //!
 //! Water flow into a cell compartment follows the van't Hoff relation with
-//! reflection coefficients (MODEL.md section 2):
+//! reflection coefficients (docs/model.md, cell membranes):
 //!
 //! `J = L · RT · Σ σ_i (C_i,inside − C_i,outside)`
 //!

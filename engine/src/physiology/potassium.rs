@@ -1,5 +1,5 @@
 //! Potassium distribution between extracellular fluid and cells
-//! (MODEL.md section 5): potassium moves toward the distribution the
+//! (docs/model.md, metabolism and insensible loss): potassium moves toward the distribution the
 //! Na/K pump held at the start, over hours.
 
 /// Potassium flux into cells, mmol/h: `rate_l_h · (ratio · [K]_out − [K]_cell)`.

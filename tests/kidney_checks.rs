@@ -345,6 +345,6 @@ fn thirst_defends_against_water_deprivation() {
         "with thirst {w:.1}, without {wo:.1}"
     );
     let drank =
-        with.samples.iter().any(|s| s.inputs.water_in_l_h > 0.0) || with.balance[0].intake > 0.5;
+        with.samples.iter().any(|s| s.inputs.oral_water_l_h > 0.0) || with.balance[0].intake > 0.5;
     assert!(drank, "thirst made the patient drink");
 }

@@ -370,6 +370,12 @@ pub fn describe_stream(s: &Stream) -> String {
     if r.water_in_l_h > 0.0 {
         parts.push(format!("{} mL/h in", fixed(r.water_in_l_h * 1000.0, 0)));
     }
+    if r.oral_water_l_h > 0.0 {
+        parts.push(format!(
+            "{} mL/h by mouth",
+            fixed(r.oral_water_l_h * 1000.0, 0)
+        ));
+    }
     if r.water_out_l_h > 0.0 {
         parts.push(format!("{} mL/h out", fixed(r.water_out_l_h * 1000.0, 0)));
     }
@@ -379,14 +385,20 @@ pub fn describe_stream(s: &Stream) -> String {
             fixed(r.blood_loss_l_h * 1000.0, 0)
         ));
     }
-    if r.na_in_mmol_h > 0.0 {
-        parts.push(format!("Na {} mmol/h in", fixed(r.na_in_mmol_h, 1)));
+    if r.na_in_mmol_h + r.oral_na_mmol_h > 0.0 {
+        parts.push(format!(
+            "Na {} mmol/h in",
+            fixed(r.na_in_mmol_h + r.oral_na_mmol_h, 1)
+        ));
     }
     if r.na_out_mmol_h > 0.0 {
         parts.push(format!("Na {} mmol/h out", fixed(r.na_out_mmol_h, 1)));
     }
-    if r.k_in_mmol_h > 0.0 {
-        parts.push(format!("K {} mmol/h in", fixed(r.k_in_mmol_h, 1)));
+    if r.k_in_mmol_h + r.oral_k_mmol_h > 0.0 {
+        parts.push(format!(
+            "K {} mmol/h in",
+            fixed(r.k_in_mmol_h + r.oral_k_mmol_h, 1)
+        ));
     }
     if r.desmopressin_depot_ug_h + r.desmopressin_ug_h > 0.0 {
         parts.push("desmopressin".into());
@@ -403,11 +415,9 @@ pub fn describe_stream(s: &Stream) -> String {
     }
     if let Some(d) = s.duration_h {
         text.push_str(&format!(" for {} h", crate::format::sig(d, 3)));
-        if r.water_in_l_h > 0.0 {
-            text.push_str(&format!(
-                " ({} mL in all)",
-                fixed(r.water_in_l_h * d * 1000.0, 0)
-            ));
+        let water = r.water_in_l_h + r.oral_water_l_h;
+        if water > 0.0 {
+            text.push_str(&format!(" ({} mL in all)", fixed(water * d * 1000.0, 0)));
         }
     } else {
         text.push_str(" until stopped");

@@ -94,8 +94,8 @@ fn build_plan(name: &str) -> Result<Plan, BoxError> {
                 .set_param("thirst_enabled", 1.0)?
                 .run_for(36.0)
                 .start(0.0, Stream::give(fluids.get("dextrose_5")?, 2.0, 16.0)?)
-                .start(3.0, Stream::give(fluids.get("water")?, 0.4, 1.0)?)
-                .start(12.0, Stream::give(fluids.get("water")?, 0.3, 0.5)?)
+                .start(3.0, Stream::drink(fluids.get("water")?, 0.4, 1.0)?)
+                .start(12.0, Stream::drink(fluids.get("water")?, 0.3, 0.5)?)
         }
         // A healthy man bleeds 1.3 L over an hour, receives 5 % then 20 %
         // albumin and potassium tablets.

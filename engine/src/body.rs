@@ -62,6 +62,16 @@ pub enum S {
     V2Antagonist,
     /// V2 agonism acting on the collecting duct (lags plasma), pmol/L.
     RenalV2Effect,
+    /// Water drunk (or given by tube) not yet absorbed from the gut, L.
+    GutWater,
+    /// Sodium in the gut lumen not yet absorbed, mmol.
+    GutNa,
+    /// Potassium in the gut lumen not yet absorbed, mmol.
+    GutK,
+    /// Urea in the gut lumen not yet absorbed, mmol.
+    GutUrea,
+    /// Glucose in the gut lumen not yet absorbed, mmol.
+    GutGlucose,
     /// Cumulative water in, L.
     InWater,
     /// Cumulative sodium in, mmol.
@@ -123,6 +133,11 @@ pub const STATE_NAMES: [&str; N_STATES] = [
     "desmopressin",
     "V2 antagonist",
     "renal V2 effect",
+    "gut water",
+    "gut sodium",
+    "gut potassium",
+    "gut urea",
+    "gut glucose",
     "cumulative water in",
     "cumulative sodium in",
     "cumulative potassium in",
@@ -195,16 +210,18 @@ impl Species {
                 S::BrainL,
                 S::InterstitiumL,
                 S::PlasmaL,
+                S::GutWater,
             ],
-            Species::Sodium => &[S::NaPlasma, S::NaInterstitium],
-            Species::Potassium => &[S::KPlasma, S::KInterstitium, S::KCells],
+            Species::Sodium => &[S::NaPlasma, S::NaInterstitium, S::GutNa],
+            Species::Potassium => &[S::KPlasma, S::KInterstitium, S::KCells, S::GutK],
             Species::Urea => &[
                 S::UreaPlasma,
                 S::UreaInterstitium,
                 S::UreaCells,
                 S::UreaRedCells,
+                S::GutUrea,
             ],
-            Species::Glucose => &[S::GlucosePlasma, S::GlucoseInterstitium],
+            Species::Glucose => &[S::GlucosePlasma, S::GlucoseInterstitium, S::GutGlucose],
             Species::Albumin => &[S::AlbuminPlasma, S::AlbuminInterstitium],
         }
     }
@@ -221,7 +238,8 @@ impl Species {
         }
     }
 
-    /// Amount of the species held in the body.
+    /// Amount of the species held in the body, the gut lumen included
+    /// (what was swallowed has entered the ledger).
     pub fn content(self, y: &[f64]) -> f64 {
         self.pools().iter().map(|&s| y[s as usize]).sum()
     }
@@ -265,9 +283,10 @@ impl Body {
         self.y[s as usize]
     }
 
-    /// Total body water, L.
+    /// Total body water (cells, interstitium, plasma; not the water still
+    /// in the gut lumen), L.
     pub fn total_water_l(&self) -> f64 {
-        Species::Water.content(&self.y)
+        self.extracellular_l() + self.intracellular_l()
     }
 
     /// Extracellular water (plasma + interstitium), L.

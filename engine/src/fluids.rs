@@ -72,6 +72,20 @@ impl Fluid {
         }
     }
 
+    /// Input rates for `rate_l_h` litres per hour of this fluid drunk or
+    /// given by tube: into the gut lumen, absorbed from there (protein is
+    /// digested, not absorbed as albumin, so a drink carries none).
+    pub fn drunk_at(&self, rate_l_h: f64) -> Inputs {
+        Inputs {
+            oral_water_l_h: rate_l_h,
+            oral_na_mmol_h: self.na * rate_l_h,
+            oral_k_mmol_h: self.k * rate_l_h,
+            oral_urea_mmol_h: self.urea * rate_l_h,
+            oral_glucose_mmol_h: self.glucose * rate_l_h,
+            ..Default::default()
+        }
+    }
+
     /// Input rates for a loss of `rate_l_h` litres per hour of this fluid.
     pub fn lost_at(&self, rate_l_h: f64) -> Inputs {
         Inputs {

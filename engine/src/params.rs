@@ -155,6 +155,7 @@ parameters! {
     ecf_deficit_fraction: 0.0, [0.0, 0.5], "1", "Extracellular volume deficit at the start, as a fraction of normal (hypovolemia)", "patient state";
     v2_response_h: 0.5, [0.01, 6.0], "h", "Time constant of the collecting duct's response to a change in V2 agonism (vasopressin clearance and water-channel trafficking)", "(M)";
     desmopressin_half_life_h: 3.0, [0.5, 24.0], "h", "Elimination half-life of desmopressin", "product information of desmopressin, 2-4 h (M)";
+    gut_absorption_half_life_min: 12.0, [2.0, 120.0], "min", "Half-life of absorption from the gut of water drunk (and of what it carries); first order", "Peronnet et al. 2012, pharmacokinetics of ingested D2O-labelled water in 36 adults: absorption half-life ~11-13 min (journal Eur J Appl Physiol 112:2213, from memory)";
     desmopressin_absorption_h: 0.7, [0.05, 12.0], "h", "Absorption time constant of desmopressin given under the skin, in the nose or by mouth", "(M)";
     desmopressin_avp_equiv_pmol_l_per_ug: 10.0, [0.1, 200.0], "pmol/L per ug", "Vasopressin-equivalent V2 agonism per microgram of desmopressin in the body", "calibrated: 2 ug IV keeps urine near maximally concentrated for about 10 h (M)";
     desmopressin_bioavailability_nasal: 0.05, [0.0, 1.0], "1", "Share of an intranasal desmopressin dose that reaches the circulation", "(M)";

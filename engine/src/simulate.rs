@@ -80,6 +80,18 @@ impl Stream {
         })
     }
 
+    /// Drink (or give by tube into the gut) `volume_l` of a fluid over
+    /// `duration_h`: it reaches plasma as the gut absorbs it.
+    pub fn drink(fluid: &Fluid, volume_l: f64, duration_h: f64) -> Result<Self, InputError> {
+        check_volume_duration(volume_l, duration_h)?;
+        check_drinkable(fluid)?;
+        Ok(Stream {
+            label: fluid.id.clone(),
+            rates: fluid.drunk_at(volume_l / duration_h),
+            duration_h: Some(duration_h),
+        })
+    }
+
     /// Lose `volume_l` of fluid of a composition over `duration_h`.
     pub fn lose(fluid: &Fluid, volume_l: f64, duration_h: f64) -> Result<Self, InputError> {
         check_volume_duration(volume_l, duration_h)?;
@@ -177,7 +189,8 @@ impl Stream {
     }
 
     /// Tablets or sachets by mouth: sodium (as salt), potassium (as its
-    /// chloride) and urea, absorbed over 1 h.
+    /// chloride) and urea, swallowed over 1 h into the gut, absorbed from
+    /// there.
     pub fn tablets(na_mmol: f64, k_mmol: f64, urea_g: f64) -> Result<Self, InputError> {
         check_dose("sodium", na_mmol, 0.0, 2000.0, "mmol")?;
         check_dose("potassium", k_mmol, 0.0, 500.0, "mmol")?;
@@ -191,9 +204,9 @@ impl Stream {
         Ok(Stream {
             label: "tablets".into(),
             rates: Inputs {
-                na_in_mmol_h: na_mmol,
-                k_in_mmol_h: k_mmol,
-                urea_in_mmol_h: urea_g * 1000.0 / crate::units::UREA_G_PER_MOL,
+                oral_na_mmol_h: na_mmol,
+                oral_k_mmol_h: k_mmol,
+                oral_urea_mmol_h: urea_g * 1000.0 / crate::units::UREA_G_PER_MOL,
                 ..Default::default()
             },
             duration_h: Some(1.0),
@@ -205,6 +218,19 @@ impl Stream {
         self.label = label.to_string();
         self
     }
+}
+
+/// A colloid is not a drink: albumin by mouth is digested, so the model
+/// would silently drop it.
+fn check_drinkable(fluid: &Fluid) -> Result<(), InputError> {
+    if fluid.albumin_g_l > 0.0 {
+        return Err(InputError::BadChoice {
+            field: "drink".into(),
+            value: fluid.id.clone(),
+            expected: "a fluid without albumin (albumin by mouth is digested, not absorbed as albumin; infuse it instead)".into(),
+        });
+    }
+    Ok(())
 }
 
 fn check_volume_duration(volume_l: f64, duration_h: f64) -> Result<(), InputError> {

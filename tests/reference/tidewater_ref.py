@@ -35,7 +35,7 @@ import numpy as np
 from scipy.integrate import solve_ivp
 
 FORMAT = "tidewater-model-dump/1"
-N_STATES = 38
+N_STATES = 43
 LN2 = math.log(2.0)
 
 # Names the equations page writes without a `params.`/`calibration.` prefix
@@ -180,6 +180,7 @@ class Model:
             "thirst_threshold_mosm_kg", "insensible_l_h", "metabolic_water_l_h",
             "urea_generation_mmol_h", "desmopressin_absorption_h",
             "desmopressin_half_life_h", "v2_antagonist_half_life_h", "v2_response_h",
+            "gut_absorption_per_h", "drug_electrolyte_scale_max",
         ):
             c[name] = v(name)
         for name in ("v_zero_l", "elastance_low_mmhg_l", "elastance_high_mmhg_l", "width_l"):
@@ -199,7 +200,8 @@ class Model:
         under inputs u."""
         c = self.c
         (V_c, V_r, V_b, V_i, V_p, Na_p, Na_i, K_p, K_i, K_c, G_p, G_i,
-         U_p, U_i, U_c, U_r, A_p, A_i, Gl_p, X_r, O_b, D_dep, D, T, R) = y[:25]
+         U_p, U_i, U_c, U_r, A_p, A_i, Gl_p, X_r, O_b, D_dep, D, T, R,
+         W_g, Na_g, K_g, U_g, G_g) = y[:30]
         na_p, na_i = conc(Na_p, V_p), conc(Na_i, V_i)
         k_p, k_i = conc(K_p, V_p), conc(K_i, V_i)
         g_p, g_i = conc(G_p, V_p), conc(G_i, V_i)
@@ -283,10 +285,10 @@ class Model:
             n0 = c["na_excretion0"]
             E_Na = n0 * e / (1.0 + n0 * (e - 1.0) / c["na_excretion_max"]) + (
                 e_L * c["loop_diuretic_na_mmol_h"] + e_T * c["thiazide_na_mmol_h"]) * min(
-                na_p / c["na0_mmol_l"], 1.5)
+                na_p / c["na0_mmol_l"], c["drug_electrolyte_scale_max"])
             E_K = c["k_excretion0"] * (max(k_p, 0.0) / c["k0_mmol_l"]) ** c["kaliuresis_exponent"] + (
                 e_L * c["loop_diuretic_k_mmol_h"] + e_T * c["thiazide_k_mmol_h"]) * min(
-                k_p / c["k0_mmol_l"], 1.5)
+                k_p / c["k0_mmol_l"], c["drug_electrolyte_scale_max"])
             E_U = c["urea_fractional_excretion"] * c["gfr_l_h"] * max(u_p, 0.0)
             E_G = c["gfr_l_h"] * ramp(g_p - c["glucose_renal_threshold_mmol_l"], 0.5)
             V_u = (2.0 * (E_Na + E_K) + E_U + E_G) / U_osm
@@ -297,7 +299,10 @@ class Model:
                       c["thirst_gain_l_h_per_mosm"] * ramp(posm - c["thirst_threshold_mosm_kg"], 0.5))
         else:
             W_t = 0.0
+        kg = c["gut_absorption_per_h"]
+        a_W, a_Na, a_K, a_U, a_G = (kg * max(x_, 0.0) for x_ in (W_g, Na_g, K_g, U_g, G_g))
         return dict(
+            W_g=W_g, a_W=a_W, a_Na=a_Na, a_K=a_K, a_U=a_U, a_G=a_G,
             V_c=V_c, V_r=V_r, V_b=V_b, V_i=V_i, V_p=V_p, na_p=na_p, k_p=k_p, g_p=g_p, u_p=u_p,
             A_p=A_p, A_i=A_i, Gl_p=Gl_p, X_r=X_r, O_b=O_b, D_dep=D_dep, D=D, T=T, R=R,
             Na_p=Na_p, K_p=K_p, G_p=G_p, U_p=U_p, U_r=U_r,
@@ -315,23 +320,25 @@ class Model:
         Pg = c["glucose_production_mmol_h"]
         J_c, J_b, J_r, J_v, L = q["J_c"], q["J_b"], q["J_r"], q["J_v"], q["L"]
         V_u, W_t = q["V_u"], q["W_t"]
-        water_in = u["water_in_l_h"] + W_t + met
+        a_W, a_Na, a_K, a_U, a_G = q["a_W"], q["a_Na"], q["a_K"], q["a_U"], q["a_G"]
         absorb = max(q["D_dep"], 0.0) / c["desmopressin_absorption_h"]
         dy = np.empty(N_STATES)
         dy[0] = J_c
         dy[1] = J_r - b * q["V_r"]
         dy[2] = J_b
         dy[3] = J_v - L - J_c - J_b
-        dy[4] = -J_v + L - J_r + water_in - u["water_out_l_h"] - V_u - ins - b * q["V_p"]
-        dy[5] = -q["T_Na"] + u["na_in_mmol_h"] - u["na_out_mmol_h"] - q["E_Na"] - b * q["Na_p"]
+        dy[4] = (-J_v + L - J_r + u["water_in_l_h"] + a_W + met - u["water_out_l_h"] - V_u - ins
+                 - b * q["V_p"])
+        dy[5] = (-q["T_Na"] + u["na_in_mmol_h"] + a_Na - u["na_out_mmol_h"] - q["E_Na"]
+                 - b * q["Na_p"])
         dy[6] = q["T_Na"]
-        dy[7] = -q["T_K"] + u["k_in_mmol_h"] - u["k_out_mmol_h"] - q["E_K"] - b * q["K_p"]
+        dy[7] = -q["T_K"] + u["k_in_mmol_h"] + a_K - u["k_out_mmol_h"] - q["E_K"] - b * q["K_p"]
         dy[8] = q["T_K"] - q["Jk"]
         dy[9] = q["Jk"]
-        dy[10] = (-q["T_G"] + u["glucose_in_mmol_h"] + Pg - q["D_g"] - u["glucose_out_mmol_h"]
+        dy[10] = (-q["T_G"] + u["glucose_in_mmol_h"] + a_G + Pg - q["D_g"] - u["glucose_out_mmol_h"]
                   - q["E_G"] - b * q["G_p"])
         dy[11] = q["T_G"]
-        dy[12] = (-q["T_U"] - q["Ju_r"] + u["urea_in_mmol_h"] + ureagen - u["urea_out_mmol_h"]
+        dy[12] = (-q["T_U"] - q["Ju_r"] + u["urea_in_mmol_h"] + a_U + ureagen - u["urea_out_mmol_h"]
                   - q["E_U"] - b * q["U_p"])
         dy[13] = q["T_U"] - q["Ju_c"]
         dy[14] = q["Ju_c"]
@@ -346,20 +353,26 @@ class Model:
                   - LN2 / c["desmopressin_half_life_h"] * max(q["D"], 0.0))
         dy[23] = u["v2_antagonist_mg_h"] - LN2 / c["v2_antagonist_half_life_h"] * max(q["T"], 0.0)
         dy[24] = (q["V2_star"] - q["R"]) / c["v2_response_h"]
-        # Ledger: cumulative in (25-30) and out (31-36), urine (37).
-        dy[25] = water_in
-        dy[26] = u["na_in_mmol_h"]
-        dy[27] = u["k_in_mmol_h"]
-        dy[28] = u["urea_in_mmol_h"] + ureagen
-        dy[29] = u["glucose_in_mmol_h"] + Pg
-        dy[30] = u["albumin_in_g_h"]
-        dy[31] = u["water_out_l_h"] + V_u + ins + b * (q["V_p"] + q["V_r"])
-        dy[32] = u["na_out_mmol_h"] + q["E_Na"] + b * q["Na_p"]
-        dy[33] = u["k_out_mmol_h"] + q["E_K"] + b * q["K_p"]
-        dy[34] = u["urea_out_mmol_h"] + q["E_U"] + b * (q["U_p"] + q["U_r"])
-        dy[35] = u["glucose_out_mmol_h"] + q["E_G"] + q["D_g"] + b * q["G_p"]
-        dy[36] = u["albumin_out_g_h"] + b * q["A_p"]
-        dy[37] = V_u
+        # Gut lumen (25-29).
+        dy[25] = u["oral_water_l_h"] + W_t - a_W
+        dy[26] = u["oral_na_mmol_h"] - a_Na
+        dy[27] = u["oral_k_mmol_h"] - a_K
+        dy[28] = u["oral_urea_mmol_h"] - a_U
+        dy[29] = u["oral_glucose_mmol_h"] - a_G
+        # Ledger: cumulative in (30-35) and out (36-41), urine (42).
+        dy[30] = u["water_in_l_h"] + u["oral_water_l_h"] + W_t + met
+        dy[31] = u["na_in_mmol_h"] + u["oral_na_mmol_h"]
+        dy[32] = u["k_in_mmol_h"] + u["oral_k_mmol_h"]
+        dy[33] = u["urea_in_mmol_h"] + u["oral_urea_mmol_h"] + ureagen
+        dy[34] = u["glucose_in_mmol_h"] + u["oral_glucose_mmol_h"] + Pg
+        dy[35] = u["albumin_in_g_h"]
+        dy[36] = u["water_out_l_h"] + V_u + ins + b * (q["V_p"] + q["V_r"])
+        dy[37] = u["na_out_mmol_h"] + q["E_Na"] + b * q["Na_p"]
+        dy[38] = u["k_out_mmol_h"] + q["E_K"] + b * q["K_p"]
+        dy[39] = u["urea_out_mmol_h"] + q["E_U"] + b * (q["U_p"] + q["U_r"])
+        dy[40] = u["glucose_out_mmol_h"] + q["E_G"] + q["D_g"] + b * q["G_p"]
+        dy[41] = u["albumin_out_g_h"] + b * q["A_p"]
+        dy[42] = V_u
         return dy
 
     # -- observations -----------------------------------------------------
@@ -397,6 +410,7 @@ class Model:
             # Not defined on the page (plain meaning of the page's symbols).
             "brain_l": q["V_b"],
             "total_water_l": q["V_c"] + q["V_r"] + q["V_b"] + q["V_i"] + q["V_p"],
+            "gut_ml": 1000.0 * q["W_g"],
             "blood_volume_l": q["BV"],
             "capillary_mmhg": q["P_c"],
             "interstitial_mmhg": q["P_i"],
@@ -418,18 +432,18 @@ class Model:
         y0 = self.y0
         s = np.maximum(np.abs(y0), 1e-3)
         content = {
-            "water": y0[0:5].sum(),
-            "na": y0[5:7].sum(),
-            "k": y0[7:10].sum(),
-            "urea": y0[12:16].sum(),
-            "glucose": y0[10:12].sum(),
+            "water": y0[0:5].sum() + y0[25],
+            "na": y0[5:7].sum() + y0[26],
+            "k": y0[7:10].sum() + y0[27],
+            "urea": y0[12:16].sum() + y0[28],
+            "glucose": y0[10:12].sum() + y0[29],
             "albumin": y0[16:18].sum(),
         }
         order = ["water", "na", "k", "urea", "glucose", "albumin"]
         for j, species in enumerate(order):
-            s[25 + j] = max(abs(content[species]), 1e-3)
-            s[31 + j] = max(abs(content[species]), 1e-3)
-        s[37] = max(abs(content["water"]), 1e-3)
+            s[30 + j] = max(abs(content[species]), 1e-3)
+            s[36 + j] = max(abs(content[species]), 1e-3)
+        s[42] = max(abs(content["water"]), 1e-3)
         return s
 
     def simulate(self, method: str = "BDF", rtol: float = 1e-10,

@@ -14,7 +14,7 @@ use crate::error::InputError;
 use crate::params::Params;
 use crate::patient::{Onset, ResolvedPatient};
 use crate::physiology::{
-    blood_volume, brain, capillary, glucose, kidney, membrane, osmoregulation, potassium,
+    blood_volume, brain, capillary, glucose, gut, kidney, membrane, osmoregulation, potassium,
 };
 use crate::units;
 use serde::Serialize;
@@ -69,14 +69,16 @@ impl Switches {
 }
 
 /// Number of entries in the input vector (see [`Inputs::to_vec`]).
-pub const N_INPUTS: usize = 18;
+pub const N_INPUTS: usize = 23;
 
 /// Piecewise-constant inputs during one stretch of time: everything given
-/// to and taken from the body by the scenario, as rates. Infusions, drinks
-/// and tablets enter the plasma; losses of fixed composition leave it;
-/// blood loss removes whole blood. (All exchange with the outside, including
-/// insensible loss, water of oxidation and glucose metabolism, is placed at
-/// the plasma, so that the resting state has no standing gradients.)
+/// to and taken from the body by the scenario, as rates. Infusions enter
+/// the plasma; drinks, tube feeds and tablets enter the gut lumen (the
+/// `oral_*` rates) and reach plasma as they are absorbed; losses of fixed
+/// composition leave the plasma; blood loss removes whole blood. (All other
+/// exchange with the outside, including insensible loss, water of oxidation
+/// and glucose metabolism, is placed at the plasma, so that the resting
+/// state has no standing gradients.)
 #[derive(Debug, Clone, Copy, Default, PartialEq, Serialize)]
 pub struct Inputs {
     /// Water given, L/h.
@@ -115,6 +117,16 @@ pub struct Inputs {
     pub loop_diuretic_effect: f64,
     /// Thiazide effect, 0 (none) to 1 (full).
     pub thiazide_effect: f64,
+    /// Water drunk or given by tube into the gut, L/h.
+    pub oral_water_l_h: f64,
+    /// Sodium into the gut (drinks, food, tablets), mmol/h.
+    pub oral_na_mmol_h: f64,
+    /// Potassium into the gut, mmol/h.
+    pub oral_k_mmol_h: f64,
+    /// Urea into the gut, mmol/h.
+    pub oral_urea_mmol_h: f64,
+    /// Glucose into the gut, mmol/h.
+    pub oral_glucose_mmol_h: f64,
 }
 
 impl Inputs {
@@ -144,6 +156,11 @@ impl Inputs {
             self.v2_antagonist_mg_h,
             self.loop_diuretic_effect,
             self.thiazide_effect,
+            self.oral_water_l_h,
+            self.oral_na_mmol_h,
+            self.oral_k_mmol_h,
+            self.oral_urea_mmol_h,
+            self.oral_glucose_mmol_h,
         ]
     }
 
@@ -168,6 +185,11 @@ impl Inputs {
             v2_antagonist_mg_h: p[15],
             loop_diuretic_effect: p[16],
             thiazide_effect: p[17],
+            oral_water_l_h: p[18],
+            oral_na_mmol_h: p[19],
+            oral_k_mmol_h: p[20],
+            oral_urea_mmol_h: p[21],
+            oral_glucose_mmol_h: p[22],
         }
     }
 
@@ -283,6 +305,8 @@ pub struct Calibration {
     pub urea_fractional_excretion: f64,
     /// Maximal urine osmolality at this age and GFR, mOsm/kg.
     pub urine_osm_max: f64,
+    /// Gut absorption rate constant (first order), 1/h.
+    pub gut_absorption_per_h: f64,
     /// Habitual water intake, L/h.
     pub habitual_water_l_h: f64,
     /// Habitual sodium intake, mmol/h.
@@ -415,8 +439,10 @@ pub struct Fluxes {
     pub glucose_production_mmol_h: f64,
     /// V2 agonism the collecting duct is moving toward, pmol/L.
     pub v2_target_pmol_l: f64,
-    /// Drinking driven by thirst, L/h.
+    /// Drinking driven by thirst, L/h (into the gut).
     pub thirst_water_l_h: f64,
+    /// Gut absorption rate constant, 1/h.
+    pub gut_absorption_per_h: f64,
     /// Blood volume, L.
     pub blood_volume_l: f64,
     /// Hematocrit, fraction.
@@ -458,8 +484,10 @@ pub struct Observation {
     pub interstitium_l: f64,
     /// Plasma water, L.
     pub plasma_l: f64,
-    /// Total body water, L.
+    /// Total body water, L (the gut lumen excluded).
     pub total_water_l: f64,
+    /// Water in the gut lumen not yet absorbed, mL.
+    pub gut_ml: f64,
     /// Brain-cell volume relative to normal (1 = normal).
     pub brain_volume_index: f64,
     /// Hematocrit, fraction.
@@ -716,6 +744,7 @@ impl Model {
             na0_mmol_l: patient.na,
             urea_fractional_excretion: urea_fe,
             urine_osm_max,
+            gut_absorption_per_h: gut::absorption_rate_per_h(p.gut_absorption_half_life_min),
             habitual_water_l_h: 0.0,
             habitual_na_mmol_h: 0.0,
             habitual_k_mmol_h: 0.0,
@@ -766,14 +795,26 @@ impl Model {
         y[S::BrainOsmolytes as usize] = brain_osmolytes;
 
         balance_the_start(patient, p, switches, &mut calibration, &mut y)?;
-        Ok((
-            Model {
-                params: p.clone(),
-                calibration,
-                switches,
-            },
-            Body { y },
-        ))
+        let model = Model {
+            params: p.clone(),
+            calibration,
+            switches,
+        };
+        model.fill_the_gut(&mut y, &patient.cause.standing_inputs());
+        Ok((model, Body { y }))
+    }
+
+    /// Set the gut lumen to what the habitual intake, the standing
+    /// treatments and the thirst of the start hold there at steady state.
+    fn fill_the_gut(&self, y: &mut [f64], standing: &Inputs) {
+        let u = self.habitual_inputs().plus(standing);
+        let k = self.calibration.gut_absorption_per_h;
+        let thirst = self.fluxes(y, &u).thirst_water_l_h;
+        y[S::GutWater as usize] = gut::steady_content(u.oral_water_l_h + thirst, k);
+        y[S::GutNa as usize] = gut::steady_content(u.oral_na_mmol_h, k);
+        y[S::GutK as usize] = gut::steady_content(u.oral_k_mmol_h, k);
+        y[S::GutUrea as usize] = gut::steady_content(u.oral_urea_mmol_h, k);
+        y[S::GutGlucose as usize] = gut::steady_content(u.oral_glucose_mmol_h, k);
     }
 
     /// The habitual intake (water, salt, potassium) as input rates; zero
@@ -784,9 +825,9 @@ impl Model {
         }
         let c = &self.calibration;
         Inputs {
-            water_in_l_h: c.habitual_water_l_h,
-            na_in_mmol_h: c.habitual_na_mmol_h,
-            k_in_mmol_h: c.habitual_k_mmol_h,
+            oral_water_l_h: c.habitual_water_l_h,
+            oral_na_mmol_h: c.habitual_na_mmol_h,
+            oral_k_mmol_h: c.habitual_k_mmol_h,
             ..Default::default()
         }
     }
@@ -1004,6 +1045,7 @@ impl Model {
             } else {
                 0.0
             },
+            gut_absorption_per_h: self.calibration.gut_absorption_per_h,
             blood_volume_l: blood_volume,
             hematocrit,
             blood_loss_per_h: u.blood_loss_l_h / blood_volume.max(1e-9),
@@ -1042,6 +1084,15 @@ impl Model {
         let bl_u_r = bl * s(S::UreaRedCells);
         let bl_alb = bl * s(S::AlbuminPlasma);
 
+        // The gut lumen: what is swallowed waits there and is absorbed
+        // into plasma, each pool at the same fractional rate.
+        let k_gut = f.gut_absorption_per_h;
+        let gut_water = gut::absorbed_per_h(s(S::GutWater), k_gut);
+        let gut_na = gut::absorbed_per_h(s(S::GutNa), k_gut);
+        let gut_k = gut::absorbed_per_h(s(S::GutK), k_gut);
+        let gut_urea = gut::absorbed_per_h(s(S::GutUrea), k_gut);
+        let gut_glucose = gut::absorbed_per_h(s(S::GutGlucose), k_gut);
+
         let mut set = |i: S, v: f64| dy[i as usize] = v;
         set(S::CellsL, f.cell_water_l_h);
         set(S::BrainL, f.brain_water_l_h);
@@ -1054,7 +1105,7 @@ impl Model {
             S::PlasmaL,
             -f.filtration_l_h + f.lymph_l_h - f.red_cell_water_l_h
                 + u.water_in_l_h
-                + f.thirst_water_l_h
+                + gut_water
                 + f.metabolic_water_l_h
                 - u.water_out_l_h
                 - f.urine_l_h
@@ -1063,18 +1114,18 @@ impl Model {
         );
         set(
             S::NaPlasma,
-            -t_na + u.na_in_mmol_h - u.na_out_mmol_h - f.urine_na_mmol_h - bl_na,
+            -t_na + u.na_in_mmol_h + gut_na - u.na_out_mmol_h - f.urine_na_mmol_h - bl_na,
         );
         set(S::NaInterstitium, t_na);
         set(
             S::KPlasma,
-            -t_k + u.k_in_mmol_h - u.k_out_mmol_h - f.urine_k_mmol_h - bl_k,
+            -t_k + u.k_in_mmol_h + gut_k - u.k_out_mmol_h - f.urine_k_mmol_h - bl_k,
         );
         set(S::KInterstitium, t_k - f.k_into_cells_mmol_h);
         set(S::KCells, f.k_into_cells_mmol_h);
         set(
             S::GlucosePlasma,
-            -t_g + u.glucose_in_mmol_h + f.glucose_production_mmol_h
+            -t_g + u.glucose_in_mmol_h + gut_glucose + f.glucose_production_mmol_h
                 - f.glucose_disposal_mmol_h
                 - u.glucose_out_mmol_h
                 - f.urine_glucose_mmol_h
@@ -1083,7 +1134,10 @@ impl Model {
         set(S::GlucoseInterstitium, t_g);
         set(
             S::UreaPlasma,
-            -t_u - f.urea_into_red_cells_mmol_h + u.urea_in_mmol_h + f.urea_generation_mmol_h
+            -t_u - f.urea_into_red_cells_mmol_h
+                + u.urea_in_mmol_h
+                + gut_urea
+                + f.urea_generation_mmol_h
                 - u.urea_out_mmol_h
                 - f.urine_urea_mmol_h
                 - bl_u_p,
@@ -1121,17 +1175,28 @@ impl Model {
             S::RenalV2Effect,
             (f.v2_target_pmol_l - s(S::RenalV2Effect)) / p.v2_response_h,
         );
+        set(
+            S::GutWater,
+            u.oral_water_l_h + f.thirst_water_l_h - gut_water,
+        );
+        set(S::GutNa, u.oral_na_mmol_h - gut_na);
+        set(S::GutK, u.oral_k_mmol_h - gut_k);
+        set(S::GutUrea, u.oral_urea_mmol_h - gut_urea);
+        set(S::GutGlucose, u.oral_glucose_mmol_h - gut_glucose);
 
         set(
             S::InWater,
-            u.water_in_l_h + f.thirst_water_l_h + f.metabolic_water_l_h,
+            u.water_in_l_h + u.oral_water_l_h + f.thirst_water_l_h + f.metabolic_water_l_h,
         );
-        set(S::InNa, u.na_in_mmol_h);
-        set(S::InK, u.k_in_mmol_h);
-        set(S::InUrea, u.urea_in_mmol_h + f.urea_generation_mmol_h);
+        set(S::InNa, u.na_in_mmol_h + u.oral_na_mmol_h);
+        set(S::InK, u.k_in_mmol_h + u.oral_k_mmol_h);
+        set(
+            S::InUrea,
+            u.urea_in_mmol_h + u.oral_urea_mmol_h + f.urea_generation_mmol_h,
+        );
         set(
             S::InGlucose,
-            u.glucose_in_mmol_h + f.glucose_production_mmol_h,
+            u.glucose_in_mmol_h + u.oral_glucose_mmol_h + f.glucose_production_mmol_h,
         );
         set(S::InAlbumin, u.albumin_in_g_h);
 
@@ -1186,7 +1251,12 @@ impl Model {
             brain_l: s(S::BrainL),
             interstitium_l: s(S::InterstitiumL),
             plasma_l: v_p,
-            total_water_l: crate::body::Species::Water.content(y),
+            total_water_l: s(S::CellsL)
+                + s(S::RedCellsL)
+                + s(S::BrainL)
+                + s(S::InterstitiumL)
+                + v_p,
+            gut_ml: units::l_to_ml(s(S::GutWater)),
             brain_volume_index: s(S::BrainL) / c.brain_normal_l,
             hematocrit: f.hematocrit,
             blood_volume_l: f.blood_volume_l,

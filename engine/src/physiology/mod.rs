@@ -6,6 +6,7 @@ pub mod blood_volume;
 pub mod brain;
 pub mod capillary;
 pub mod glucose;
+pub mod gut;
 pub mod kidney;
 pub mod membrane;
 pub mod osmoregulation;

@@ -27,6 +27,16 @@ pub enum ActionSpec {
         /// Over how long, h.
         duration_h: f64,
     },
+    /// A fluid drunk (or given by tube into the gut): volume over a
+    /// duration.
+    Drink {
+        /// The fluid.
+        fluid: Fluid,
+        /// How much.
+        volume: Volume,
+        /// Over how long, h.
+        duration_h: f64,
+    },
     /// A fluid at a fixed rate until stopped.
     GiveAtRate {
         /// The fluid.
@@ -101,9 +111,9 @@ impl ActionSpec {
     /// The label the stream(s) of this action will carry by default.
     pub fn default_label(&self) -> String {
         match self {
-            ActionSpec::Give { fluid, .. } | ActionSpec::GiveAtRate { fluid, .. } => {
-                fluid.id.clone()
-            }
+            ActionSpec::Give { fluid, .. }
+            | ActionSpec::Drink { fluid, .. }
+            | ActionSpec::GiveAtRate { fluid, .. } => fluid.id.clone(),
             ActionSpec::Lose { fluid: Some(f), .. } => format!("loss:{}", f.id),
             ActionSpec::Lose { fluid: None, .. } => "loss:blood".into(),
             ActionSpec::Desmopressin { .. } => "desmopressin".into(),
@@ -139,6 +149,11 @@ impl ActionSpec {
                 volume,
                 duration_h,
             } => Stream::give(fluid, volume.litres_for(w), *duration_h)?,
+            ActionSpec::Drink {
+                fluid,
+                volume,
+                duration_h,
+            } => Stream::drink(fluid, volume.litres_for(w), *duration_h)?,
             ActionSpec::GiveAtRate { fluid, rate } => {
                 Stream::give_at_rate(fluid, rate.l_per_h_for(w))?
             }
@@ -168,11 +183,11 @@ impl ActionSpec {
                 // Meals go on: their salt, potassium and the water in the
                 // food (never more than the habitual intake held).
                 let food_water_l_h =
-                    (ctx.params.food_water_l_day / 24.0).min(ctx.habitual.water_in_l_h);
+                    (ctx.params.food_water_l_day / 24.0).min(ctx.habitual.oral_water_l_h);
                 let diet = Inputs {
-                    water_in_l_h: food_water_l_h,
-                    na_in_mmol_h: ctx.habitual.na_in_mmol_h,
-                    k_in_mmol_h: ctx.habitual.k_in_mmol_h,
+                    oral_water_l_h: food_water_l_h,
+                    oral_na_mmol_h: ctx.habitual.oral_na_mmol_h,
+                    oral_k_mmol_h: ctx.habitual.oral_k_mmol_h,
                     ..Default::default()
                 };
                 if diet != Inputs::default() {
@@ -186,7 +201,7 @@ impl ActionSpec {
                     out.push(Action::Start(Stream {
                         label: label.unwrap_or("allowance").to_string(),
                         rates: Inputs {
-                            water_in_l_h: litres_per_day / 24.0,
+                            oral_water_l_h: litres_per_day / 24.0,
                             ..Default::default()
                         },
                         duration_h: None,
@@ -215,6 +230,11 @@ impl fmt::Display for ActionSpec {
                 volume,
                 duration_h,
             } => write!(f, "give {volume} of {} over {}", fluid.id, h(duration_h)),
+            ActionSpec::Drink {
+                fluid,
+                volume,
+                duration_h,
+            } => write!(f, "drink {volume} of {} over {}", fluid.id, h(duration_h)),
             ActionSpec::GiveAtRate { fluid, rate } => write!(f, "run {} at {rate}", fluid.id),
             ActionSpec::Lose {
                 fluid,

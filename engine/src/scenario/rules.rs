@@ -99,6 +99,11 @@ pub const OBS_LABS: &[LabDef] = &[
         get: |o| o.total_water_l,
     },
     LabDef {
+        name: "gut_ml",
+        unit: "mL",
+        get: |o| o.gut_ml,
+    },
+    LabDef {
         name: "brain_volume_index",
         unit: "1",
         get: |o| o.brain_volume_index,

@@ -780,7 +780,7 @@ pub(crate) fn register(engine: &mut Engine, st: &Shared, source: Rc<str>) {
             let mut a = new_action(
                 &ctx,
                 &s,
-                ActionSpec::Give {
+                ActionSpec::Drink {
                     fluid: water,
                     volume,
                     duration_h: d.hours,
@@ -806,7 +806,7 @@ pub(crate) fn register(engine: &mut Engine, st: &Shared, source: Rc<str>) {
             Ok(new_action(
                 &ctx,
                 &s,
-                ActionSpec::Give {
+                ActionSpec::Drink {
                     fluid: fl,
                     volume,
                     duration_h: d.hours,

@@ -436,6 +436,8 @@ pub fn plan_summary(plan: &Plan) -> PlanSummary {
                 Action::Start(s) => describe_stream(s),
                 Action::Stop(label) => format!("stop {label}"),
                 Action::StopAll => "stop every running stream".into(),
+                Action::SetParam { name, value } => format!("set {name} to {value}"),
+                Action::ResolveCause => "the cause resolves".into(),
             },
         })
         .collect();

@@ -46,6 +46,10 @@ pub struct ModelDump {
     pub sample_times_h: Vec<f64>,
     /// Solver tolerances used by the engine.
     pub tolerances: Tolerances,
+    /// Planned changes to the model during the run (time, h, and what
+    /// changes). The equations page describes one model: an independent
+    /// implementation must refuse a dump where this is not empty.
+    pub model_changes: Vec<(f64, String)>,
 }
 
 /// Build the dump of a simulation's plan (rules are not included: a plan
@@ -86,6 +90,12 @@ pub fn dump(sim: &Simulation) -> ModelDump {
             .collect(),
         sample_times_h,
         tolerances: plan.tolerances,
+        model_changes: plan
+            .events
+            .iter()
+            .filter(|e| e.action.changes_the_model())
+            .map(|e| (e.time_h, format!("{:?}", e.action)))
+            .collect(),
     }
 }
 

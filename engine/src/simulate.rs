@@ -321,6 +321,24 @@ pub enum Action {
     Stop(String),
     /// Stop every running stream.
     StopAll,
+    /// Change a parameter from now on (only those the model reads as it
+    /// runs or recalibrates: [`crate::model::check_change`]).
+    SetParam {
+        /// Parameter name.
+        name: String,
+        /// New value, in the parameter's unit.
+        value: f64,
+    },
+    /// The patient's cause goes away from now on
+    /// ([`Model::with_cause_resolved`]).
+    ResolveCause,
+}
+
+impl Action {
+    /// Whether the action changes the model rather than the inputs.
+    pub fn changes_the_model(&self) -> bool {
+        matches!(self, Action::SetParam { .. } | Action::ResolveCause)
+    }
 }
 
 /// An action at a planned time.
@@ -518,6 +536,9 @@ impl Plan {
         }
         for e in &self.events {
             range("event time", e.time_h, 0.0, self.duration_h, "h")?;
+            if let Action::SetParam { name, value } = &e.action {
+                crate::model::check_change(name, *value)?;
+            }
         }
         range("rtol", self.tolerances.rtol, 1e-12, 1e-2, "1")?;
         Ok(())
@@ -541,6 +562,8 @@ struct Schedule {
     next_check_h: f64,
     /// Labels of `running`, kept until the running streams change.
     labels: Option<Arc<[String]>>,
+    /// Changes to the model asked for and not yet made.
+    model_changes: Vec<Action>,
 }
 
 const EPS_H: f64 = 1e-9;
@@ -560,10 +583,15 @@ impl Schedule {
                 f64::INFINITY
             },
             labels: None,
+            model_changes: Vec::new(),
         }
     }
 
     fn apply(&mut self, t: f64, action: Action) {
+        if action.changes_the_model() {
+            self.model_changes.push(action);
+            return;
+        }
         self.labels = None;
         match action {
             Action::Start(stream) => {
@@ -572,6 +600,7 @@ impl Schedule {
             }
             Action::Stop(label) => self.running.retain(|r| r.stream.label != label),
             Action::StopAll => self.running.clear(),
+            Action::SetParam { .. } | Action::ResolveCause => {}
         }
     }
 
@@ -609,6 +638,13 @@ impl Schedule {
             next = next.min(r.end_h);
         }
         next.max(t)
+    }
+
+    /// Give the running streams with this label new rates.
+    fn set_rates(&mut self, label: &str, rates: Inputs) {
+        for r in self.running.iter_mut().filter(|r| r.stream.label == label) {
+            r.stream.rates = rates;
+        }
     }
 
     fn inputs(&self) -> Inputs {
@@ -682,9 +718,12 @@ fn make_jvp(model: Arc<Model>) -> JvpFn {
     })
 }
 
+/// The solver's problem for `model`, starting from `y_init`; the absolute
+/// tolerances are scaled on the state at the start of the run, `y0`.
 fn build_problem(
     model: Arc<Model>,
     y0: &[f64],
+    y_init: &[f64],
     tol: &Tolerances,
 ) -> Result<Problem, SimulationError> {
     // Absolute tolerance per state: a fraction of the state's scale (the
@@ -705,7 +744,7 @@ fn build_problem(
     let rhs: RhsFn = Box::new(move |x: &[T], p: &[T], _t: T, y: &mut [T]| {
         rhs_model.derivative(x, &Inputs::from_slice(p), y);
     });
-    let y_init = y0.to_vec();
+    let y_init = y_init.to_vec();
     let init: InitFn = Box::new(move |_p: &[T], _t: T, y: &mut [T]| y.copy_from_slice(&y_init));
     let mut problem = OdeBuilder::<M>::new()
         .rtol(tol.rtol)
@@ -790,6 +829,9 @@ impl Simulation {
             params.set(name, *value)?;
         }
         let (model, initial) = Model::new(&patient, &params, plan.switches)?;
+        if plan.events.iter().any(|e| e.action == Action::ResolveCause) {
+            crate::model::check_resolvable(patient.cause)?;
+        }
         Ok(Simulation {
             plan,
             patient,
@@ -895,8 +937,10 @@ impl Simulation {
     pub fn run_with(&self, controller: &mut dyn Controller) -> Result<Trajectory, SimulationError> {
         let plan = &self.plan;
         let end = plan.duration_h;
-        let mut problem = build_problem(self.model.clone(), &self.initial.y, &plan.tolerances)?;
-        let ctx = *problem.context();
+        // The model in force: a change (a parameter set at a time or by a
+        // rule, a cause that resolves) replaces it, and the solver restarts
+        // on a problem built for the new one.
+        let mut model = self.model.clone();
         let mut schedule = self.initial_schedule();
         let mut samples: Vec<Sample> = Vec::new();
         let n_grid = (end / plan.sample_every_h + 1e-9).floor() as usize;
@@ -915,8 +959,11 @@ impl Simulation {
         let mut y = self.initial.y.clone();
         // Working buffers for states read between steps.
         let mut ybuf = y.clone();
+        let mut inputs = self.process(0.0, &y, &mut schedule, &samples, controller, &mut model)?;
+        let mut problem = build_problem(model.clone(), &self.initial.y, &y, &plan.tolerances)?;
+        let mut problem_model = model.clone();
+        let ctx = *problem.context();
         let mut vbuf = V::from_vec(y.clone(), ctx);
-        let mut inputs = self.process(0.0, &y, &mut schedule, &samples, controller)?;
         let mut state = problem
             .bdf_state::<LS>()
             .map_err(|e| solver_error(0.0, e))?;
@@ -925,16 +972,17 @@ impl Simulation {
             .set_params(&V::from_vec(inputs.to_vec(), ctx));
         refresh(&problem, &mut state);
 
-        let take = |samples: &mut Vec<Sample>, time: f64, y: Vec<f64>, inputs: &Inputs| {
-            let obs = self.model.observe(&y, inputs);
-            samples.push(Sample {
-                time_h: time,
-                obs,
-                inputs: *inputs,
-                y,
-            });
-        };
-        take(&mut samples, 0.0, y.clone(), &inputs);
+        let take =
+            |samples: &mut Vec<Sample>, model: &Model, time: f64, y: Vec<f64>, inputs: &Inputs| {
+                let obs = model.observe(&y, inputs);
+                samples.push(Sample {
+                    time_h: time,
+                    obs,
+                    inputs: *inputs,
+                    y,
+                });
+            };
+        take(&mut samples, &model, 0.0, y.clone(), &inputs);
         next_sample += 1;
 
         loop {
@@ -991,7 +1039,7 @@ impl Simulation {
                                 (Some(ts), tc) if tc.is_none_or(|tc| ts <= tc + EPS_H) => {
                                     at(ts, &samples)?;
                                     check_negative(&ybuf, ts, &scales)?;
-                                    take(&mut samples, ts, ybuf.clone(), &inputs);
+                                    take(&mut samples, &model, ts, ybuf.clone(), &inputs);
                                     next_sample += 1;
                                 }
                                 (_, Some(tc)) => {
@@ -1002,8 +1050,10 @@ impl Simulation {
                                         &mut schedule,
                                         &samples,
                                         controller,
+                                        &mut model,
                                     )?;
-                                    if new_inputs != inputs {
+                                    if new_inputs != inputs || !Arc::ptr_eq(&model, &problem_model)
+                                    {
                                         inputs = new_inputs;
                                         rewind = Some((tc, ybuf.clone()));
                                         break 'steps;
@@ -1023,8 +1073,9 @@ impl Simulation {
                 }
                 t = stop;
                 y.copy_from_slice(host(solver.state().y));
-                let new_inputs = self.process(t, &y, &mut schedule, &samples, controller)?;
-                if new_inputs != inputs {
+                let new_inputs =
+                    self.process(t, &y, &mut schedule, &samples, controller, &mut model)?;
+                if new_inputs != inputs || !Arc::ptr_eq(&model, &problem_model) {
                     inputs = new_inputs;
                     break true;
                 }
@@ -1043,6 +1094,23 @@ impl Simulation {
             if !changed {
                 break;
             }
+            if !Arc::ptr_eq(&model, &problem_model) {
+                // A new model: a new problem, started from the state now.
+                let (t_now, y_now) = {
+                    let st = state.as_ref();
+                    (st.t, host(st.y).to_vec())
+                };
+                let rs = problem.eqn.rhs().statistics();
+                stats.rhs_calls += rs.number_of_calls;
+                stats.jacobian_products += rs.number_of_jac_muls;
+                stats.jacobian_evaluations += rs.number_of_matrix_evals;
+                problem = build_problem(model.clone(), &self.initial.y, &y_now, &plan.tolerances)?;
+                problem_model = model.clone();
+                state = problem
+                    .bdf_state::<LS>()
+                    .map_err(|e| solver_error(t_now, e))?;
+                *state.as_mut().t = t_now;
+            }
             stats.restarts += 1;
             problem
                 .eqn_mut()
@@ -1050,9 +1118,9 @@ impl Simulation {
             refresh(&problem, &mut state);
         }
         let rs = problem.eqn.rhs().statistics();
-        stats.rhs_calls = rs.number_of_calls;
-        stats.jacobian_products = rs.number_of_jac_muls;
-        stats.jacobian_evaluations = rs.number_of_matrix_evals;
+        stats.rhs_calls += rs.number_of_calls;
+        stats.jacobian_products += rs.number_of_jac_muls;
+        stats.jacobian_evaluations += rs.number_of_matrix_evals;
         Ok(Trajectory::from_samples(
             samples,
             plan.limits.clone(),
@@ -1060,8 +1128,9 @@ impl Simulation {
         ))
     }
 
-    /// Apply what is due at `t` (events, ends of streams, a check) and
-    /// return the inputs in force from `t` on.
+    /// Apply what is due at `t` (events, ends of streams, a check, changes
+    /// to the model) and return the inputs in force from `t` on; `model`
+    /// is replaced when a change asks for it.
     fn process(
         &self,
         t: f64,
@@ -1069,6 +1138,40 @@ impl Simulation {
         schedule: &mut Schedule,
         samples: &[Sample],
         controller: &mut dyn Controller,
+        model: &mut Arc<Model>,
+    ) -> Result<Inputs, SimulationError> {
+        let inputs = self.process_schedule(t, y, schedule, samples, controller, model)?;
+        if schedule.model_changes.is_empty() {
+            return Ok(inputs);
+        }
+        for change in std::mem::take(&mut schedule.model_changes) {
+            let made = match &change {
+                Action::SetParam { name, value } => model.with_param(name, *value, &self.patient),
+                _ => model.with_cause_resolved(&self.patient),
+            };
+            let (new_model, effects) = made.map_err(|e| SimulationError::Controller {
+                time_h: t,
+                message: e.to_string(),
+            })?;
+            *model = Arc::new(new_model);
+            for label in effects.stop {
+                schedule.apply(t, Action::Stop(label));
+            }
+            if let Some(rates) = effects.habitual {
+                schedule.set_rates("habitual", rates);
+            }
+        }
+        Ok(schedule.inputs())
+    }
+
+    fn process_schedule(
+        &self,
+        t: f64,
+        y: &[f64],
+        schedule: &mut Schedule,
+        samples: &[Sample],
+        controller: &mut dyn Controller,
+        model: &Model,
     ) -> Result<Inputs, SimulationError> {
         if schedule.advance_to(t) {
             let inputs = schedule.inputs();
@@ -1076,7 +1179,7 @@ impl Simulation {
             // observation already.
             let obs = match samples.last() {
                 Some(last) if (t - last.time_h).abs() <= EPS_H && last.inputs == inputs => last.obs,
-                _ => self.model.observe(y, &inputs),
+                _ => model.observe(y, &inputs),
             };
             // Sodium now, at the start and back in time, read off the samples
             // taken so far (no copies: checks can be frequent).

@@ -109,6 +109,10 @@ class Model:
         if len(d["initial_state"]) != N_STATES or len(d["state_names"]) != N_STATES:
             raise DumpError(
                 f"dump has {len(d['initial_state'])} states; the equations page has {N_STATES}")
+        if d.get("model_changes"):
+            raise DumpError(
+                f"the plan changes the model during the run ({d['model_changes']}); "
+                "the equations page describes one model")
         self.params = dict(d["params"])
         self.cal = {k: v for k, v in d["calibration"].items() if not isinstance(v, dict)}
         self.interstitium = dict(d["calibration"]["interstitium"])

@@ -19,7 +19,9 @@ use crate::physiology::{
 use crate::units;
 use serde::Serialize;
 
+mod change;
 mod start;
+pub use change::{check_change, check_resolvable, ChangeEffects, READ_AS_IT_RUNS, RECALIBRATED};
 use start::balance_the_start;
 pub use start::habitual_water_l_day;
 

@@ -108,7 +108,21 @@ pub fn balance_the_start(
             {
                 (w, given, t)
             }
-            ThresholdFit::TooConcentrated(t) | ThresholdFit::TooDilute(t) => {
+            ThresholdFit::TooConcentrated(edge) | ThresholdFit::TooDilute(edge) => {
+                // When no threshold in the window changes the urine of the
+                // start (another stimulus, or none, sets vasopressin), the
+                // start says nothing about this patient's own threshold:
+                // take the population's, which decides what happens once
+                // the other stimulus goes. Otherwise the nearest edge.
+                let (at_low, at_high) = (
+                    urine_at(&mut probe, y, &standing, low).0,
+                    urine_at(&mut probe, y, &standing, high).0,
+                );
+                let t = if (at_high - at_low).abs() <= 1e-9 * at_high.abs().max(1e-12) {
+                    centre
+                } else {
+                    edge
+                };
                 let urine = urine_at(&mut probe, y, &standing, t).0;
                 let needed = (urine + extrarenal).max(0.0);
                 let needed_day = units::per_h_to_per_day(needed);

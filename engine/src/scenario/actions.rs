@@ -90,6 +90,15 @@ pub enum ActionSpec {
     },
     /// Nothing by mouth: the habitual intake stops.
     NilByMouth,
+    /// A parameter changes from now on.
+    ChangeParam {
+        /// Parameter name.
+        name: String,
+        /// New value.
+        value: f64,
+    },
+    /// The patient's cause goes away from now on.
+    ResolveCause,
     /// Stop every running stream with this label.
     Stop(String),
     /// Stop every running stream.
@@ -123,6 +132,8 @@ impl ActionSpec {
             ActionSpec::Tablets { .. } => "tablets".into(),
             ActionSpec::Restrict { .. } => "allowance".into(),
             ActionSpec::NilByMouth => "habitual".into(),
+            ActionSpec::ChangeParam { name, .. } => format!("change:{name}"),
+            ActionSpec::ResolveCause => "resolve_cause".into(),
             ActionSpec::Stop(l) => l.clone(),
             ActionSpec::StopAll => String::new(),
         }
@@ -132,7 +143,11 @@ impl ActionSpec {
     pub fn starts_something(&self) -> bool {
         !matches!(
             self,
-            ActionSpec::Stop(_) | ActionSpec::StopAll | ActionSpec::NilByMouth
+            ActionSpec::Stop(_)
+                | ActionSpec::StopAll
+                | ActionSpec::NilByMouth
+                | ActionSpec::ChangeParam { .. }
+                | ActionSpec::ResolveCause
         )
     }
 
@@ -210,6 +225,13 @@ impl ActionSpec {
                 return Ok(out);
             }
             ActionSpec::NilByMouth => return Ok(vec![Action::Stop("habitual".into())]),
+            ActionSpec::ChangeParam { name, value } => {
+                return Ok(vec![Action::SetParam {
+                    name: name.clone(),
+                    value: *value,
+                }])
+            }
+            ActionSpec::ResolveCause => return Ok(vec![Action::ResolveCause]),
             ActionSpec::Stop(l) => return Ok(vec![Action::Stop(l.clone())]),
             ActionSpec::StopAll => return Ok(vec![Action::StopAll]),
         };
@@ -264,6 +286,8 @@ impl fmt::Display for ActionSpec {
                 write!(f, "fluid restriction to {litres_per_day} L/day")
             }
             ActionSpec::NilByMouth => write!(f, "nil by mouth"),
+            ActionSpec::ChangeParam { name, value } => write!(f, "set {name} to {value}"),
+            ActionSpec::ResolveCause => write!(f, "the cause resolves"),
             ActionSpec::Stop(l) => write!(f, "stop {l}"),
             ActionSpec::StopAll => write!(f, "stop everything"),
         }

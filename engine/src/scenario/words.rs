@@ -116,6 +116,8 @@ pub const WORDS: &[(&str, &str)] = &[
     ("sample_every", "sample_every(duration)"),
     ("limits", "limits(\"europe-2014\" | \"us-2013\", high_risk)"),
     ("set_param", "set_param(name, number)"),
+    ("change_param", "change_param(name, number)"),
+    ("resolve_cause", "resolve_cause()"),
     ("fluids_file", "fluids_file(\"file.yaml\")"),
     ("at", "at(time, action or [actions])"),
     ("start", "start(action)"),
@@ -353,7 +355,15 @@ fn new_action(ctx: &NativeCallContext, st: &Shared, spec: ActionSpec) -> ActionV
         line: line_of(ctx),
     };
     if let Phase::InRule { .. } = s.phase {
-        if !matches!(v.spec, ActionSpec::Stop(_) | ActionSpec::StopAll) {
+        // Stops and model changes act when made; the rest must be started.
+        let acts_when_made = matches!(
+            v.spec,
+            ActionSpec::Stop(_)
+                | ActionSpec::StopAll
+                | ActionSpec::ChangeParam { .. }
+                | ActionSpec::ResolveCause
+        );
+        if !acts_when_made {
             s.dangling.push(v.clone());
         }
     }
@@ -636,8 +646,17 @@ pub(crate) fn register(engine: &mut Engine, st: &Shared, source: Rc<str>) {
         move |ctx: NativeCallContext, name: Dynamic, v: Dynamic| -> Res<()> {
             let name = arg_text(&ctx, "set_param", "the parameter name", &name)?;
             let value = arg_number(&ctx, "set_param", "the value", &v)?;
+            let in_rule = matches!(s.borrow().phase, Phase::InRule { .. });
+            if in_rule {
+                // Inside a rule the change acts now, as change_param does.
+                if let Err(e) = crate::model::check_change(&name, value) {
+                    return fail(&ctx, format!("set_param: {e}"));
+                }
+                let a = new_action(&ctx, &s, ActionSpec::ChangeParam { name, value });
+                s.borrow_mut().pending.push((a, line_of(&ctx)));
+                return Ok(());
+            }
             let mut s = s.borrow_mut();
-            top_level_only(&ctx, &s, "set_param")?;
             if let Err(e) = crate::Params::default().set(&name, value) {
                 return fail(
                     &ctx,
@@ -837,6 +856,38 @@ pub(crate) fn register(engine: &mut Engine, st: &Shared, source: Rc<str>) {
         move |ctx: NativeCallContext, l: Dynamic| -> Res<ActionValue> {
             let label = arg_text(&ctx, "stop", "the label", &l)?;
             let a = new_action(&ctx, &s, ActionSpec::Stop(label));
+            let mut st = s.borrow_mut();
+            if let Phase::InRule { .. } = st.phase {
+                st.pending.push((a.clone(), line_of(&ctx)));
+            }
+            Ok(a)
+        },
+    );
+    let s = st.clone();
+    engine.register_fn(
+        "change_param",
+        move |ctx: NativeCallContext, name: Dynamic, v: Dynamic| -> Res<ActionValue> {
+            let name = arg_text(&ctx, "change_param", "the parameter name", &name)?;
+            let value = arg_number(&ctx, "change_param", "the value", &v)?;
+            if let Err(e) = crate::model::check_change(&name, value) {
+                return fail(
+                    &ctx,
+                    format!("change_param: {e}; `tidewater params` lists every parameter"),
+                );
+            }
+            let a = new_action(&ctx, &s, ActionSpec::ChangeParam { name, value });
+            let mut st = s.borrow_mut();
+            if let Phase::InRule { .. } = st.phase {
+                st.pending.push((a.clone(), line_of(&ctx)));
+            }
+            Ok(a)
+        },
+    );
+    let s = st.clone();
+    engine.register_fn(
+        "resolve_cause",
+        move |ctx: NativeCallContext| -> Res<ActionValue> {
+            let a = new_action(&ctx, &s, ActionSpec::ResolveCause);
             let mut st = s.borrow_mut();
             if let Phase::InRule { .. } = st.phase {
                 st.pending.push((a.clone(), line_of(&ctx)));

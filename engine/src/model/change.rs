@@ -265,23 +265,43 @@ mod tests {
         m.params.thirst_enabled = 1.0;
         m.params.thirst_threshold_mosm_kg = 281.0;
         m.params.avp_floor_pmol_l = 0.5;
+        m.params.insulin_activity = 0.5;
+        // A second state with brain osmolytes above their target, so that
+        // both the loss and the regain time constants are in use.
+        let mut y_high = y.clone();
+        y_high[S::BrainOsmolytes as usize] *= 1.3;
         let rates = |m: &Model| {
-            let mut dy = vec![0.0; crate::body::N_STATES];
-            m.derivative(&y, &u, &mut dy);
+            let mut dy = vec![0.0; 2 * crate::body::N_STATES];
+            let (a, b) = dy.split_at_mut(crate::body::N_STATES);
+            m.derivative(&y, &u, a);
+            m.derivative(&y_high, &u, b);
             dy
         };
-        let base = rates(&m);
+        // A second set of parameters with thirst below its cap, so that
+        // both the gain and the cap are in use in one of the two.
+        let mut m_linear = m.clone();
+        m_linear.params.thirst_threshold_mosm_kg = 320.0;
+        m_linear.params.thirst_max_l_h = 5.0;
         for name in READ_AS_IT_RUNS {
-            let info = crate::params::info(name).unwrap();
-            let now = m.params.get(name).unwrap();
-            let moved = if now != 0.0 && now * 1.5 <= info.max {
-                now * 1.5
-            } else {
-                0.5 * (info.min + info.max)
-            };
-            let mut changed = m.clone();
-            changed.params.set(name, moved).unwrap();
-            assert_ne!(rates(&changed), base, "{name} changes no rate");
+            let moves_a_rate = [&m, &m_linear].iter().any(|base_model| {
+                let info = crate::params::info(name).unwrap();
+                let now = base_model.params.get(name).unwrap();
+                // The floor acts only above the other stimuli: move it
+                // high; a switch flips; the cap on drug electrolyte scaling
+                // acts only when plasma is more concentrated than at the
+                // start: move it to its least.
+                let moved = match *name {
+                    "avp_floor_pmol_l" => 0.9 * info.max,
+                    "thirst_enabled" => 1.0 - now,
+                    "drug_electrolyte_scale_max" => info.min,
+                    _ if now != 0.0 && now * 1.5 <= info.max => now * 1.5,
+                    _ => 0.5 * (info.min + info.max),
+                };
+                let mut changed = (*base_model).clone();
+                changed.params.set(name, moved).unwrap();
+                rates(&changed) != rates(base_model)
+            });
+            assert!(moves_a_rate, "{name} changes no rate");
         }
     }
 

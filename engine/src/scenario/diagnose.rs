@@ -1,12 +1,13 @@
 //! Script errors turned into [`ScenarioError`]s: the innermost position
 //! (line and column), the script function it happened in, and a message in
 //! the words of the language (unknown words and labs get a suggestion, a
-//! wrong number of arguments gets the usage). A data-file error marked by
-//! `fluids_file` points into that file.
+//! wrong number of arguments gets the usage). An input error a word raised
+//! as itself (a bad fluid file) points into that file.
 
 use super::error::{self, ScenarioError};
 use super::sandbox::{MAX_CALL_LEVELS, MAX_OPERATIONS, MAX_WALL_TIME};
-use super::words::{decode_data_error, usage, WORDS};
+use super::words::{usage, WORDS};
+use crate::error::InputError;
 use rhai::{EvalAltResult, ParseError, Position};
 
 /// A script error, read: where it happened and what it says.
@@ -18,6 +19,8 @@ pub(super) struct Described {
     pub column: usize,
     /// What is wrong, naming the script function it happened in.
     pub message: String,
+    /// The input error a word raised as itself (a bad data file), if any.
+    pub input: Option<InputError>,
 }
 
 /// Line, column and message of a script error (innermost position first).
@@ -41,8 +44,19 @@ pub(super) fn describe_error(err: &EvalAltResult) -> Described {
     if pos.is_none() {
         pos = callers.last().map_or(Position::NONE, |c| c.1);
     }
+    let mut input = None;
     let message = match e {
-        EvalAltResult::ErrorRuntime(d, _) => d.to_string(),
+        EvalAltResult::ErrorRuntime(d, _) => match d.clone().try_cast::<InputError>() {
+            Some(ie) => {
+                let text = match &ie {
+                    InputError::DataFile { message, .. } => message.clone(),
+                    other => other.to_string(),
+                };
+                input = Some(ie);
+                text
+            }
+            None => d.to_string(),
+        },
         EvalAltResult::ErrorFunctionNotFound(sig, _) => function_not_found(sig),
         EvalAltResult::ErrorVariableNotFound(name, _) => unknown_variable(name),
         EvalAltResult::ErrorPropertyNotFound(name, _) | EvalAltResult::ErrorDotExpr(name, _) => {
@@ -80,22 +94,27 @@ pub(super) fn describe_error(err: &EvalAltResult) -> Described {
         line: pos.line().unwrap_or(0),
         column: pos.position().unwrap_or(0),
         message,
+        input,
     }
 }
 
 /// The error of a script whose top level failed: an error of the data file
-/// when `fluids_file` marked one, else an error of the script.
+/// when a word raised one, else an error of the script.
 pub(super) fn load_error(err: &EvalAltResult, file: &str, source: &str) -> ScenarioError {
     let d = describe_error(err);
-    match decode_data_error(&d.message) {
-        Some((data_file, location, message)) => ScenarioError::Data {
+    match d.input {
+        Some(InputError::DataFile {
+            file: data_file,
+            location,
+            ..
+        }) => ScenarioError::Data {
             file: file.to_string(),
             line: d.line,
             data_file,
             location,
-            message,
+            message: d.message,
         },
-        None => script_error(file, source, d.line, d.column, d.message),
+        _ => script_error(file, source, d.line, d.column, d.message),
     }
 }
 
@@ -177,4 +196,83 @@ fn property_not_found(text: &str) -> String {
         .map(|s| format!(" (did you mean `{s}`?)"))
         .unwrap_or_default();
     format!("no lab or property called `{name}`{hint}")
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use rhai::Dynamic;
+
+    fn raised(e: InputError, line: u16, column: u16) -> EvalAltResult {
+        EvalAltResult::ErrorRuntime(Dynamic::from(e), Position::new(line, column))
+    }
+
+    #[test]
+    fn a_data_file_error_keeps_its_own_location_and_the_calling_function() {
+        let inner = raised(
+            InputError::DataFile {
+                file: "ward.yaml".into(),
+                location: Some((5, 7)),
+                message: "unknown field `sodium`".into(),
+            },
+            2,
+            5,
+        );
+        let err = EvalAltResult::ErrorInFunctionCall(
+            "load_ward".into(),
+            String::new(),
+            Box::new(inner),
+            Position::new(4, 1),
+        );
+        let source = "patient(#{});\nfn load_ward() {\n}\nload_ward();\n";
+        match load_error(&err, "case.rhai", source) {
+            ScenarioError::Data {
+                file,
+                line,
+                data_file,
+                location,
+                message,
+            } => {
+                assert_eq!((file.as_str(), line), ("case.rhai", 2));
+                assert_eq!((data_file.as_str(), location), ("ward.yaml", Some((5, 7))));
+                assert_eq!(
+                    message,
+                    "unknown field `sodium` (in function `load_ward` called on line 4)"
+                );
+            }
+            other => panic!("{other:?}"),
+        }
+    }
+
+    #[test]
+    fn other_input_errors_and_plain_messages_are_script_errors() {
+        let source = "one\ntwo\n";
+        let unknown = raised(
+            InputError::UnknownFluid {
+                name: "brine".into(),
+                suggestion: None,
+            },
+            2,
+            3,
+        );
+        let text = EvalAltResult::ErrorRuntime("a plain message".into(), Position::new(1, 1));
+        for (err, line, column, message) in [
+            (unknown, 2, 3, "unknown fluid \"brine\""),
+            (text, 1, 1, "a plain message"),
+        ] {
+            match load_error(&err, "case.rhai", source) {
+                ScenarioError::Script {
+                    line: l,
+                    column: c,
+                    message: m,
+                    snippet,
+                    ..
+                } => {
+                    assert_eq!((l, c, m.as_str()), (line, column, message));
+                    assert_eq!(snippet, source.lines().nth(line - 1).unwrap());
+                }
+                other => panic!("{other:?}"),
+            }
+        }
+    }
 }

@@ -4,6 +4,7 @@
 use super::super::units::{fail, Amount, Duration, Rate, Volume};
 use super::state::{Phase, State};
 use super::usage;
+use crate::error::InputError;
 use rhai::{Dynamic, EvalAltResult, NativeCallContext, FLOAT, INT};
 
 pub(super) type Res<T> = Result<T, Box<EvalAltResult>>;
@@ -164,4 +165,16 @@ pub(super) fn top_level_only(ctx: &NativeCallContext, s: &State, word: &str) -> 
         );
     }
     Ok(())
+}
+
+/// An input error (a bad data file) raised as itself at the position of the
+/// current call; the loader turns it into a [`ScenarioError`] that points
+/// into the data file.
+///
+/// [`ScenarioError`]: super::super::ScenarioError
+pub(super) fn fail_input<T>(ctx: &NativeCallContext, e: InputError) -> Res<T> {
+    Err(Box::new(EvalAltResult::ErrorRuntime(
+        Dynamic::from(e),
+        ctx.call_position(),
+    )))
 }

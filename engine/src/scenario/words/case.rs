@@ -3,7 +3,8 @@
 
 use super::super::units::fail;
 use super::args::{
-    arg_duration, arg_number, arg_text, describe, line_of, number, top_level_only, wrong, Res,
+    arg_duration, arg_number, arg_text, describe, fail_input, line_of, number, top_level_only,
+    wrong, Res,
 };
 use super::state::Shared;
 use crate::fluids::FluidLibrary;
@@ -329,40 +330,10 @@ pub(super) fn register(engine: &mut Engine, st: &Shared, source: Rc<str>) {
                     s.fluids.extend(lib);
                     Ok(())
                 }
-                // Marked so the loader can turn it into a data-file error.
-                Err(e) => fail(&ctx, format!("{DATA_MARK}{}", encode_data_error(&e))),
+                // Raised as itself: the loader reports it at its line in
+                // the data file.
+                Err(e) => fail_input(&ctx, e),
             }
         },
     );
-}
-
-/// Marker for a data-file error raised by `fluids_file`, decoded by the loader.
-pub(crate) const DATA_MARK: &str = "\u{1}data\u{1}";
-
-fn encode_data_error(e: &crate::InputError) -> String {
-    match e {
-        crate::InputError::DataFile {
-            file,
-            location,
-            message,
-        } => {
-            let (l, c) = location.unwrap_or((0, 0));
-            format!("{file}\u{1}{l}\u{1}{c}\u{1}{message}")
-        }
-        other => format!("\u{1}0\u{1}0\u{1}{other}"),
-    }
-}
-
-/// A data-file error: file, line and column, message.
-pub(crate) type DataError = (String, Option<(usize, usize)>, String);
-
-/// Decode a data-file error raised by `fluids_file`: (file, location, message).
-pub(crate) fn decode_data_error(text: &str) -> Option<DataError> {
-    let rest = text.strip_prefix(DATA_MARK)?;
-    let mut parts = rest.splitn(4, '\u{1}');
-    let file = parts.next()?.to_string();
-    let l: usize = parts.next()?.parse().ok()?;
-    let c: usize = parts.next()?.parse().ok()?;
-    let message = parts.next()?.to_string();
-    Some((file, (l > 0).then_some((l, c)), message))
 }

@@ -19,7 +19,6 @@ mod schedule;
 mod state;
 mod treatments;
 
-pub(crate) use case::decode_data_error;
 pub use state::ActionValue;
 pub(crate) use state::{Phase, RuleDef, Shared, State};
 

@@ -306,8 +306,8 @@ impl ScriptController<'_> {
             )
         };
         if let Err(e) = result {
-            let (line, column, message) = super::describe_error(&e, self.source);
-            return Err(self.rule_error(rule, t, line, column, message));
+            let d = super::diagnose::describe_error(&e);
+            return Err(self.rule_error(rule, t, d.line, d.column, d.message));
         }
         if let Some(d) = dangling.first() {
             return Err(self.rule_error(

@@ -1,5 +1,6 @@
-//! Command-line options as the user types them (clap derive). What the
-//! program does with them is settled in `options.rs`.
+//! Command-line options as the user types them (clap derive): every
+//! argument struct of every command is here. What the program does with
+//! them is settled, in one place, in `options.rs`.
 
 use clap::{Args, Parser, Subcommand};
 use std::path::PathBuf;
@@ -73,11 +74,7 @@ pub enum Command {
     Demo,
     /// Time the reference 48 h run: median over repeated runs, with solver
     /// step and right-hand-side counts.
-    Bench {
-        /// Number of timed runs.
-        #[arg(long, default_value_t = 200, value_parser = clap::value_parser!(u64).range(1..=1_000_000))]
-        runs: u64,
-    },
+    Bench(BenchArgs),
     /// List every model parameter with unit, default and source.
     Params,
     /// Run a parameter sweep over a base scenario: members in parallel,
@@ -86,34 +83,28 @@ pub enum Command {
     #[command(
         after_help = "Examples:\n  tidewater sweep scenarios/sweeps/bolus_uncertainty.yaml\n  tidewater sweep spec.yaml --out runs/s/results.csv --threads 2\n  tidewater sweep spec.yaml --shard 2/8 --out runs/s/shard-2.csv\n  tidewater sweep spec.yaml --design-only        # the members, without running them\n\nInside a Slurm array job the shard comes from SLURM_ARRAY_TASK_ID and\nSLURM_ARRAY_TASK_COUNT (see scenarios/sweeps/slurm_array.sh)."
     )]
-    Sweep(crate::sweep_command::SweepArgs),
+    Sweep(SweepArgs),
     /// Join the result files of sweep shards (the same file an unsharded
     /// run writes), optionally with its summary.
     #[command(
         after_help = "Example:\n  tidewater merge runs/s/shard-*.csv --out runs/s/results.csv --spec spec.yaml"
     )]
-    Merge(crate::sweep_command::MergeArgs),
+    Merge(MergeArgs),
     /// Run scenarios as regression tests: their expectations must hold and
     /// their samples must stay within tolerance of stored baselines.
     #[command(
         after_help = "Examples:\n  tidewater check                              # every scenario in scenarios/\n  tidewater check scenarios/bolus.rhai --junit check.xml\n  tidewater check --update scenarios/bolus.rhai   # write or refresh its baseline\n  tidewater check --require-baseline --tolerances tol.yaml scenarios/\n\nBaselines are CSV files of key samples, scenarios/baselines/<name>.csv by\ndefault; tolerances.yaml beside them overrides the built-in tolerances.\n\nExit codes:\n  0  every scenario held (or, with --update, its baseline was written)\n  1  an expectation failed or a run left its baseline\n  2  bad input: an option, a script, a baseline or a tolerance file"
     )]
-    Check(crate::check::CheckArgs),
+    Check(CheckArgs),
     /// Print the model dump of a scenario's plan as JSON: every parameter,
     /// the calibration, the initial state and the input segments (for an
     /// independent implementation of docs/equations.md).
-    Dump {
-        /// Scenario script.
-        script: std::path::PathBuf,
-    },
+    Dump(DumpArgs),
     /// Print a shell completion script to stdout.
     #[command(
         after_help = "Examples:\n  tidewater completions bash > ~/.local/share/bash-completion/completions/tidewater\n  tidewater completions zsh > ~/.zfunc/_tidewater\n  tidewater completions fish > ~/.config/fish/completions/tidewater.fish"
     )]
-    Completions {
-        /// The shell.
-        shell: clap_complete::Shell,
-    },
+    Completions(CompletionsArgs),
 }
 
 /// Options of `run`.
@@ -211,4 +202,97 @@ pub struct PatientArgs {
     /// Print JSON instead of a table.
     #[arg(long)]
     pub json: bool,
+}
+
+/// Options of `bench`.
+#[derive(Args, Debug)]
+pub struct BenchArgs {
+    /// Number of timed runs.
+    #[arg(long, default_value_t = 200, value_parser = clap::value_parser!(u64).range(1..=1_000_000))]
+    pub runs: u64,
+}
+
+/// Options of `sweep`.
+#[derive(Args, Debug)]
+pub struct SweepArgs {
+    /// Sweep specification (YAML).
+    pub spec: PathBuf,
+    /// Result file (CSV, one row per member; resumed if it exists).
+    #[arg(long)]
+    pub out: Option<PathBuf>,
+    /// Run only shard K of N (1-based, e.g. 2/8). Inside a Slurm array job
+    /// the shard is taken from SLURM_ARRAY_TASK_ID and SLURM_ARRAY_TASK_COUNT
+    /// when this option is absent.
+    #[arg(long)]
+    pub shard: Option<String>,
+    /// Worker threads (default: all cores).
+    #[arg(long)]
+    pub threads: Option<usize>,
+    /// Write the summary (JSON and SVG charts) next to the result file.
+    #[arg(long, default_value_t = true, action = clap::ArgAction::Set)]
+    pub summary: bool,
+    /// Print the members (number and parameter values, CSV) of the design,
+    /// or of the shard, and run nothing: check a design before a long run.
+    #[arg(long)]
+    pub design_only: bool,
+}
+
+/// Options of `merge`.
+#[derive(Args, Debug)]
+pub struct MergeArgs {
+    /// Shard result files.
+    #[arg(required = true)]
+    pub inputs: Vec<PathBuf>,
+    /// Merged result file.
+    #[arg(long)]
+    pub out: PathBuf,
+    /// The sweep spec, to write the summary of the merged result.
+    #[arg(long)]
+    pub spec: Option<PathBuf>,
+}
+
+/// Options of `check`.
+#[derive(Args, Debug)]
+pub struct CheckArgs {
+    /// Scenario scripts, or folders of them (*.rhai, not recursive).
+    #[arg(default_value = "scenarios", value_name = "SCRIPT|DIR")]
+    pub paths: Vec<PathBuf>,
+    /// Write (or refresh) the baseline of every scenario whose expectations
+    /// hold, instead of comparing with it.
+    #[arg(long)]
+    pub update: bool,
+    /// Folder of baselines (default: `baselines/` beside each script).
+    /// Baseline files are named after the script: <stem>.csv.
+    #[arg(long, value_name = "DIR")]
+    pub baselines: Option<PathBuf>,
+    /// Tolerance file (YAML). Default: `tolerances.yaml` in the baseline
+    /// folder when it exists, else the built-in tolerances.
+    #[arg(long, value_name = "YAML")]
+    pub tolerances: Option<PathBuf>,
+    /// A scenario without a baseline is an error (for CI).
+    #[arg(long)]
+    pub require_baseline: bool,
+    /// Key-sample interval of written baselines, h (with --update).
+    #[arg(long, default_value_t = 1.0, value_name = "HOURS")]
+    pub every: f64,
+    /// Also write the results as JUnit XML to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub junit: Option<PathBuf>,
+    /// Scenarios run at once (default: all cores).
+    #[arg(long, value_parser = clap::value_parser!(u64).range(1..=1024))]
+    pub threads: Option<u64>,
+}
+
+/// Options of `dump`.
+#[derive(Args, Debug)]
+pub struct DumpArgs {
+    /// Scenario script.
+    pub script: PathBuf,
+}
+
+/// Options of `completions`.
+#[derive(Args, Debug)]
+pub struct CompletionsArgs {
+    /// The shell.
+    pub shell: clap_complete::Shell,
 }

@@ -1,17 +1,83 @@
-//! The commands other than `run`: `fluids`, `patient`, `render-reports`,
-//! `demo`, `bench`, `params`, `completions`.
+//! The commands but `sweep`, `merge` (`sweep_command.rs`) and `check`
+//! (`check/`): `run`, `render-reports`, `fluids`, `patient`, `demo`,
+//! `bench`, `params`, `dump`, `completions`.
 
-use crate::cli::{FluidsArgs, PatientArgs, RenderArgs};
 use crate::format::{fixed, sig};
 use crate::input::{self, patient_rows, RunInput};
-use crate::options::Style;
-use crate::report::{write_report, Report};
+use crate::options::{
+    FluidsOptions, PatientOptions, PatientSource, RenderOptions, RunOptions, RunSource, Style,
+};
+use crate::output::report::Report;
+use crate::scripts;
 use anyhow::{Context, Result};
 use serde_json::json;
 use std::path::{Path, PathBuf};
 use std::time::Instant;
 use tidewater::patient::patient_from_yaml;
 use tidewater::{reference, FluidLibrary, Patient, Plan, Simulation, Species, CAUTION, PARAMETERS};
+
+/// `tidewater run`: run, write the report, tell how it went. Returns
+/// whether the run holds: every expectation held and, under `--strict`, no
+/// guideline limit was crossed.
+pub fn run(opts: RunOptions, style: Style) -> Result<bool> {
+    if let Some(out) = &opts.out {
+        check_out_dir(out)?;
+    }
+    let run = match &opts.source {
+        RunSource::Demo => input::demo_input()?,
+        RunSource::Script(path) => input::load_script(path)?,
+    };
+    let dir = opts.out_dir(&run.name);
+    let report = Report::new(run)?;
+    report.write(&dir)?;
+    let s = &report.summary;
+    if !opts.quiet {
+        eprintln!("{}", style.warn(&format!("Caution: {CAUTION}")));
+        eprintln!("{}", s.title);
+        eprintln!(
+            "serum sodium {} -> {} mmol/L (min {}, max {}); largest rise {} mmol/L in 24 h, {} mmol/L in 48 h",
+            fixed(s.sodium.start.mmol_l, 1),
+            fixed(s.sodium.end.mmol_l, 1),
+            fixed(s.sodium.min.mmol_l, 1),
+            fixed(s.sodium.max.mmol_l, 1),
+            fixed(s.sodium.largest_rise_24h.mmol_l, 1),
+            fixed(s.sodium.largest_rise_48h.mmol_l, 1),
+        );
+        for f in &s.flags {
+            let text = format!(
+                "flag ({}): {} ({} at most {} mmol/L per {} h) crossed at {} h; worst {} mmol/L at {} h",
+                f.severity,
+                f.rule,
+                f.direction,
+                f.max_mmol_l,
+                f.window_h,
+                sig(f.time_h, 4),
+                fixed(f.worst_change_mmol_l, 1),
+                sig(f.worst_time_h, 4)
+            );
+            eprintln!(
+                "{}",
+                if f.severity == "limit" {
+                    style.bad(&text)
+                } else {
+                    style.warn(&text)
+                }
+            );
+        }
+        for e in &s.expectations {
+            let mark = if e.passed {
+                style.good("held  ")
+            } else {
+                style.bad("FAILED")
+            };
+            eprintln!("{mark} line {}: {} ({})", e.line, e.description, e.detail);
+        }
+        eprintln!("wrote {}", dir.display());
+    }
+    // The data product: where the report is.
+    println!("{}", dir.join("report.html").display());
+    Ok(report.input.all_expectations_hold() && !(opts.strict && s.limit_crossed()))
+}
 
 /// Print rows as aligned columns.
 pub fn table(header: &[&str], rows: &[Vec<String>]) -> String {
@@ -40,7 +106,7 @@ pub fn table(header: &[&str], rows: &[Vec<String>]) -> String {
 }
 
 /// `tidewater fluids`.
-pub fn fluids(args: FluidsArgs) -> Result<()> {
+pub fn fluids(args: FluidsOptions) -> Result<()> {
     let mut lib = FluidLibrary::bundled();
     if let Some(path) = &args.file {
         let text =
@@ -104,39 +170,19 @@ pub fn fluids(args: FluidsArgs) -> Result<()> {
     Ok(())
 }
 
-/// The patient described by `patient` options.
-pub fn patient_from_args(args: &PatientArgs) -> Result<Patient> {
-    if let Some(path) = &args.file {
-        let text =
-            std::fs::read_to_string(path).with_context(|| format!("reading {}", path.display()))?;
-        return Ok(patient_from_yaml(&text, &path.display().to_string())?);
-    }
-    let (Some(sex), Some(age), Some(weight)) = (&args.sex, args.age, args.weight) else {
-        anyhow::bail!("--sex, --age and --weight are required without --file");
-    };
-    Ok(Patient {
-        height_cm: args.height,
-        na: args.na,
-        k: args.k,
-        glucose_mmol_l: args.glucose,
-        urea_mmol_l: args.urea,
-        albumin_g_l: args.albumin,
-        hematocrit: args.hematocrit,
-        onset: args.onset.clone(),
-        cause: args.cause.clone(),
-        water_method: args.water_method.clone(),
-        ..Patient::healthy(sex, age, weight)
-    })
-}
-
 /// `tidewater patient`.
-pub fn patient(args: PatientArgs) -> Result<()> {
-    let p = patient_from_args(&args)?;
-    let source = args
-        .file
-        .as_ref()
-        .map(|f| format!("{}: ", f.display()))
-        .unwrap_or_default();
+pub fn patient(args: PatientOptions) -> Result<()> {
+    let (p, source): (Patient, String) = match args.source {
+        PatientSource::File(path) => {
+            let text = std::fs::read_to_string(&path)
+                .with_context(|| format!("reading {}", path.display()))?;
+            (
+                patient_from_yaml(&text, &path.display().to_string())?,
+                format!("{}: ", path.display()),
+            )
+        }
+        PatientSource::Flags(p) => (*p, String::new()),
+    };
     let sim = Simulation::new(Plan::new(p)).with_context(|| format!("{source}invalid patient"))?;
     let cal = &sim.model().calibration;
     let y = &sim.initial().y;
@@ -195,29 +241,19 @@ pub fn patient(args: PatientArgs) -> Result<()> {
     Ok(())
 }
 
-/// Run and write the reports of the demonstration case and every `*.rhai`
+/// Run and write the reports of the demonstration case and every scenario
 /// script in `args.scenarios`. Returns whether every expectation held.
-pub fn render_reports(args: RenderArgs, style: Style) -> Result<bool> {
-    let mut scripts: Vec<PathBuf> = Vec::new();
-    if args.scenarios.exists() {
-        for entry in std::fs::read_dir(&args.scenarios)
-            .with_context(|| format!("reading {}", args.scenarios.display()))?
-        {
-            let path = entry?.path();
-            if path.extension().is_some_and(|e| e == "rhai") {
-                scripts.push(path);
-            }
-        }
-    } else {
+pub fn render_reports(args: RenderOptions, style: Style) -> Result<bool> {
+    if !args.scenarios.exists() {
         anyhow::bail!("{}: no such folder", args.scenarios.display());
     }
-    scripts.sort();
+    let scripts = scripts::in_folder(&args.scenarios)?;
     let bar = crate::progress::bar(scripts.len() as u64 + 1, "rendering", style);
     let mut all_hold = true;
     let mut failures: Vec<String> = Vec::new();
     let mut jobs: Vec<(String, Option<PathBuf>)> = vec![("demo".into(), None)];
     for s in scripts {
-        let name = input::slug(&s.file_stem().unwrap_or_default().to_string_lossy());
+        let name = input::slug(&scripts::stem(&s));
         jobs.push((name, Some(s)));
     }
     for (name, script) in jobs {
@@ -227,9 +263,9 @@ pub fn render_reports(args: RenderArgs, style: Style) -> Result<bool> {
                 None => input::demo_input()?,
                 Some(path) => input::load_script(path)?,
             };
-            let report = Report::new(&run)?;
-            write_report(&report, &args.reports.join(&name))?;
-            Ok(run.all_expectations_hold())
+            let report = Report::new(run)?;
+            report.write(&args.reports.join(&name))?;
+            Ok(report.input.all_expectations_hold())
         })();
         match result {
             Ok(hold) => {
@@ -296,9 +332,8 @@ pub fn demo() -> Result<()> {
     Ok(())
 }
 
-/// `tidewater bench`.
+/// `tidewater bench`: `runs` (at least 1) timed runs.
 pub fn bench(runs: usize, style: Style) -> Result<()> {
-    let runs = runs.max(1);
     let sim = Simulation::new(reference::benchmark_plan())?;
     let first = sim.run()?;
     let mut times: Vec<f64> = Vec::with_capacity(runs);
@@ -335,8 +370,28 @@ pub fn params() {
     }
 }
 
+/// `tidewater dump`: the model dump of a scenario's plan, JSON on stdout.
+pub fn dump(script: &Path) -> Result<()> {
+    let scenario =
+        tidewater::scenario::Scenario::load(script).map_err(|e| anyhow::anyhow!("{e}"))?;
+    let sim = Simulation::new(scenario.plan().clone())?;
+    println!("{}", tidewater::dump::to_json(&sim));
+    Ok(())
+}
+
+/// `tidewater completions`: the completion script of `shell` on stdout.
+pub fn completions(shell: clap_complete::Shell) {
+    use clap::CommandFactory;
+    clap_complete::generate(
+        shell,
+        &mut crate::cli::Cli::command(),
+        "tidewater",
+        &mut std::io::stdout(),
+    );
+}
+
 /// Whether `path` names a folder we may replace.
-pub fn check_out_dir(path: &Path) -> Result<()> {
+fn check_out_dir(path: &Path) -> Result<()> {
     if path.exists() && !path.is_dir() {
         anyhow::bail!("{}: exists and is not a folder", path.display());
     }

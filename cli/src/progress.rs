@@ -20,3 +20,17 @@ pub fn bar(len: u64, message: &str, style: Style) -> ProgressBar {
     bar.set_message(message.to_string());
     bar
 }
+
+/// A bar of `len` steps that also shows the rate and the time left (for
+/// sweeps of many members), hidden unless stderr is a terminal.
+pub fn rate_bar(len: u64, message: &str, style: Style) -> ProgressBar {
+    let bar = bar(len, message, style);
+    if let Some(s) =
+        ProgressStyle::with_template("{msg:>12} [{bar:32}] {pos}/{len} {per_sec} eta {eta}")
+            .ok()
+            .filter(|_| style.progress)
+    {
+        bar.set_style(s.progress_chars("=> "));
+    }
+    bar
+}

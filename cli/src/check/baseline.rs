@@ -17,9 +17,43 @@
 //! (a baseline may keep fewer columns than the report writes, never
 //! unknown ones). Numbers carry the report's significant digits.
 
-use crate::report::csv::{line, COLUMNS, DIGITS};
+use crate::output::csv::{line, COLUMNS, DIGITS};
+use crate::output::{Output, OutputFile};
 use std::fmt;
 use std::path::{Path, PathBuf};
+
+/// The rows of a run (in [`COLUMNS`] order), a baseline's source.
+pub type Rows = [[f64; COLUMNS.len()]];
+
+/// The baseline output of `check --update`: the key samples of a run.
+pub struct BaselineCsv {
+    /// The script's file name, named in the comment lines.
+    pub script: String,
+    /// File name inside the baseline folder (`<stem>.csv`).
+    pub file_name: String,
+    /// Key-sample interval, h.
+    pub every_h: f64,
+}
+
+impl BaselineCsv {
+    /// The baseline file of `rows`.
+    pub fn file_of(&self, rows: &Rows) -> OutputFile {
+        self.file(
+            self.file_name.as_str(),
+            render(&self.script, rows, self.every_h),
+        )
+    }
+}
+
+impl Output<Rows> for BaselineCsv {
+    fn format(&self) -> &'static str {
+        "baseline"
+    }
+
+    fn files(&self, rows: &Rows) -> anyhow::Result<Vec<OutputFile>> {
+        Ok(vec![self.file_of(rows)])
+    }
+}
 
 /// A baseline file that cannot be used, with where and why.
 #[derive(Debug, Clone, PartialEq)]
@@ -200,7 +234,7 @@ fn is_key_time(t: f64, every_h: f64) -> bool {
 /// The baseline text of a run: every column of the report, at each sample
 /// whose time is a multiple of `every_h` and at the last sample. `source`
 /// (the script's file name) names the scenario in the comment lines.
-pub fn render(source: &str, rows: &[[f64; COLUMNS.len()]], every_h: f64) -> String {
+pub fn render(source: &str, rows: &Rows, every_h: f64) -> String {
     let mut out = format!(
         "# Tidewater baseline of {source}: key samples every {} h, {DIGITS} significant digits.\n\
          # Compare with `tidewater check SCRIPT`; refresh deliberately with\n\

@@ -4,7 +4,7 @@
 use super::baseline::Baseline;
 use super::tolerance::Tolerances;
 use crate::format::sig;
-use crate::report::csv::COLUMNS;
+use crate::output::csv::COLUMNS;
 
 /// One value outside its tolerance.
 #[derive(Debug, Clone, PartialEq)]

@@ -2,59 +2,25 @@
 //! run, its `expect` lines evaluated, and its samples compared with a
 //! stored baseline (`baseline.rs`) within per-column tolerances
 //! (`tolerance.rs`, `compare.rs`). `--update` writes baselines, and only
-//! then. Results print as text and, on request, as JUnit XML (`junit.rs`).
+//! then. Results print as text and, on request, as JUnit XML
+//! (`output/junit.rs`).
 //!
-//! Scenarios run in parallel; results are reported in the order the
-//! scripts were given (folders: sorted by name), so the output is the same
-//! for any number of threads.
+//! Scenarios run in parallel on the ordered pool (`pool.rs`); results are
+//! reported in the order the scripts were given (folders: sorted by name),
+//! so the output is the same for any number of threads.
 
 pub mod baseline;
 pub mod compare;
-pub mod junit;
 pub mod tolerance;
 
-use crate::input;
-use crate::options::Style;
-use crate::report::csv;
+use crate::options::{CheckOptions, Style};
+use crate::output::{csv, junit::JunitXml, Placement};
+use crate::{input, pool, scripts};
 use anyhow::{Context, Result};
-use clap::Args;
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
-use std::sync::atomic::{AtomicUsize, Ordering};
-use std::sync::{Arc, Mutex};
+use std::sync::Arc;
 use tolerance::Tolerances;
-
-/// Options of `check`.
-#[derive(Args, Debug)]
-pub struct CheckArgs {
-    /// Scenario scripts, or folders of them (*.rhai, not recursive).
-    #[arg(default_value = "scenarios", value_name = "SCRIPT|DIR")]
-    pub paths: Vec<PathBuf>,
-    /// Write (or refresh) the baseline of every scenario whose expectations
-    /// hold, instead of comparing with it.
-    #[arg(long)]
-    pub update: bool,
-    /// Folder of baselines (default: `baselines/` beside each script).
-    /// Baseline files are named after the script: <stem>.csv.
-    #[arg(long, value_name = "DIR")]
-    pub baselines: Option<PathBuf>,
-    /// Tolerance file (YAML). Default: `tolerances.yaml` in the baseline
-    /// folder when it exists, else the built-in tolerances.
-    #[arg(long, value_name = "YAML")]
-    pub tolerances: Option<PathBuf>,
-    /// A scenario without a baseline is an error (for CI).
-    #[arg(long)]
-    pub require_baseline: bool,
-    /// Key-sample interval of written baselines, h (with --update).
-    #[arg(long, default_value_t = 1.0, value_name = "HOURS")]
-    pub every: f64,
-    /// Also write the results as JUnit XML to FILE.
-    #[arg(long, value_name = "FILE")]
-    pub junit: Option<PathBuf>,
-    /// Scenarios run at once (default: all cores).
-    #[arg(long, value_parser = clap::value_parser!(u64).range(1..=1024))]
-    pub threads: Option<u64>,
-}
 
 /// How one scenario came out.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -98,12 +64,7 @@ fn scripts(paths: &[PathBuf]) -> Result<Vec<PathBuf>> {
     let mut out = Vec::new();
     for path in paths {
         if path.is_dir() {
-            let mut found: Vec<PathBuf> = std::fs::read_dir(path)
-                .with_context(|| format!("reading {}", path.display()))?
-                .filter_map(|e| e.ok().map(|e| e.path()))
-                .filter(|p| p.is_file() && p.extension().is_some_and(|e| e == "rhai"))
-                .collect();
-            found.sort();
+            let found = scripts::in_folder(path)?;
             if found.is_empty() {
                 anyhow::bail!(
                     "{}: no scenario scripts (*.rhai) in this folder",
@@ -120,18 +81,8 @@ fn scripts(paths: &[PathBuf]) -> Result<Vec<PathBuf>> {
     Ok(out)
 }
 
-fn stem(path: &Path) -> String {
-    path.file_stem()
-        .unwrap_or_default()
-        .to_string_lossy()
-        .to_string()
-}
-
 /// The jobs of a check: each script with its baseline path and tolerances.
-fn jobs(args: &CheckArgs) -> Result<Vec<Job>> {
-    if !(args.every.is_finite() && args.every > 0.0) {
-        anyhow::bail!("--every: must be a number of hours > 0, got {}", args.every);
-    }
+fn jobs(args: &CheckOptions) -> Result<Vec<Job>> {
     let explicit = match &args.tolerances {
         Some(path) => Some(Arc::new(Tolerances::read(path)?)),
         None => None,
@@ -140,7 +91,7 @@ fn jobs(args: &CheckArgs) -> Result<Vec<Job>> {
     let mut seen: BTreeMap<PathBuf, PathBuf> = BTreeMap::new();
     let mut jobs = Vec::new();
     for script in scripts(&args.paths)? {
-        let name = stem(&script);
+        let name = scripts::stem(&script);
         let dir = match &args.baselines {
             Some(d) => d.clone(),
             None => script
@@ -252,22 +203,34 @@ fn check_one(job: &Job, update: bool, require_baseline: bool, every_h: f64) -> C
                 details,
             );
         }
-        let file_name = job
-            .script
-            .file_name()
-            .unwrap_or_default()
-            .to_string_lossy()
-            .to_string();
-        let text = baseline::render(&file_name, &rows, every_h);
-        let current = std::fs::read_to_string(&job.baseline).ok();
-        if current.as_deref() == Some(text.as_str()) {
+        let file = baseline::BaselineCsv {
+            script: job
+                .script
+                .file_name()
+                .unwrap_or_default()
+                .to_string_lossy()
+                .to_string(),
+            file_name: job
+                .baseline
+                .file_name()
+                .unwrap_or_default()
+                .to_string_lossy()
+                .to_string(),
+            every_h,
+        }
+        .file_of(&rows);
+        let current = std::fs::read_to_string(&job.baseline)
+            .ok()
+            .map(String::into_bytes);
+        if current.as_deref() == Some(file.bytes.as_slice()) {
             return result(
                 Status::Passed,
                 format!("baseline {} unchanged", job.baseline.display()),
                 details,
             );
         }
-        if let Err(e) = crate::report::write_whole(&job.baseline, &text) {
+        let dir = job.baseline.parent().unwrap_or(Path::new(""));
+        if let Err(e) = crate::output::place(dir, &[file], Placement::Beside) {
             return result(
                 Status::Error,
                 "the baseline could not be written".into(),
@@ -338,46 +301,6 @@ fn check_one(job: &Job, update: bool, require_baseline: bool, every_h: f64) -> C
     }
 }
 
-/// Run `f` over `jobs` on `threads` threads; results in job order.
-fn run_all(
-    jobs: &[Job],
-    threads: usize,
-    f: impl Fn(&Job) -> CaseResult + Sync,
-    on_done: impl Fn(&CaseResult) + Sync,
-) -> Vec<CaseResult> {
-    let slots: Vec<Mutex<Option<CaseResult>>> = jobs.iter().map(|_| Mutex::new(None)).collect();
-    let next = AtomicUsize::new(0);
-    std::thread::scope(|scope| {
-        for _ in 0..threads.clamp(1, jobs.len().max(1)) {
-            scope.spawn(|| loop {
-                let i = next.fetch_add(1, Ordering::SeqCst);
-                let Some(job) = jobs.get(i) else { break };
-                let r = f(job);
-                on_done(&r);
-                if let Ok(mut slot) = slots[i].lock() {
-                    *slot = Some(r);
-                }
-            });
-        }
-    });
-    slots
-        .into_iter()
-        .zip(jobs)
-        .map(|(slot, job)| {
-            slot.into_inner()
-                .ok()
-                .flatten()
-                .unwrap_or_else(|| CaseResult {
-                    script: job.script.clone(),
-                    name: job.name.clone(),
-                    status: Status::Error,
-                    headline: "the check of this scenario stopped unexpectedly".into(),
-                    details: Vec::new(),
-                })
-        })
-        .collect()
-}
-
 /// The text report of a check run (what `check` prints on stdout).
 pub fn render_text(results: &[CaseResult], style: Style) -> String {
     let mut out = String::new();
@@ -407,27 +330,41 @@ pub fn render_text(results: &[CaseResult], style: Style) -> String {
 
 /// `tidewater check`. Returns whether everything held; scenarios that could
 /// not be checked make it an error (exit 2).
-pub fn check_command(args: CheckArgs, style: Style) -> Result<bool> {
+pub fn check_command(args: CheckOptions, style: Style) -> Result<bool> {
     let jobs = jobs(&args)?;
-    let threads = args
-        .threads
-        .map(|t| t as usize)
-        .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()));
     let bar = crate::progress::bar(
         jobs.len() as u64,
         if args.update { "updating" } else { "checking" },
         style,
     );
-    let results = run_all(
+    let mut results: Vec<CaseResult> = Vec::with_capacity(jobs.len());
+    pool::run_ordered(
         &jobs,
-        threads,
-        |job| check_one(job, args.update, args.require_baseline, args.every),
-        |_| bar.inc(1),
-    );
+        args.threads,
+        || Ok(()),
+        |_, _, job| {
+            let r = check_one(job, args.update, args.require_baseline, args.every_h);
+            bar.inc(1);
+            r
+        },
+        |_, r| {
+            results.push(r);
+            Ok::<(), std::convert::Infallible>(())
+        },
+    )
+    .unwrap_or_else(|never| match never {});
     bar.finish_and_clear();
     print!("{}", render_text(&results, style));
     if let Some(path) = &args.junit {
-        crate::report::write_whole(path, &junit::render(&results))?;
+        let junit = JunitXml {
+            file_name: path
+                .file_name()
+                .with_context(|| format!("{}: not a file name", path.display()))?
+                .to_string_lossy()
+                .to_string(),
+        };
+        let dir = path.parent().unwrap_or(Path::new(""));
+        crate::output::write(results.as_slice(), &[&junit], dir, Placement::Beside)?;
     }
     let errors = results.iter().filter(|r| r.status == Status::Error).count();
     if errors > 0 {

@@ -17,7 +17,7 @@
 //!
 //! A field left out keeps the value below it (default, then `columns`).
 
-use crate::report::csv::COLUMNS;
+use crate::output::csv::COLUMNS;
 use serde::Deserialize;
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};

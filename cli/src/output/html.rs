@@ -4,22 +4,22 @@
 
 #![allow(clippy::write_with_newline)] // HTML is written line by line
 
-use super::{write_file, Exporter, Report};
+use super::report::Report;
+use super::{Output, OutputFile};
 use crate::format::{fixed, sig};
 use anyhow::Result;
 use std::fmt::Write as _;
-use std::path::Path;
 
 /// The HTML writer.
 pub struct Page;
 
-impl Exporter for Page {
-    fn name(&self) -> &'static str {
+impl Output<Report> for Page {
+    fn format(&self) -> &'static str {
         "html"
     }
 
-    fn write(&self, report: &Report, dir: &Path) -> Result<()> {
-        write_file(&dir.join("report.html"), render(report).as_bytes())
+    fn files(&self, report: &Report) -> Result<Vec<OutputFile>> {
+        Ok(vec![self.file("report.html", render(report))])
     }
 }
 
@@ -100,7 +100,7 @@ fn scalable(svg: &str) -> String {
 
 /// The page.
 pub fn render(report: &Report) -> String {
-    let input = report.input;
+    let input = &report.input;
     let s = &report.summary;
     let mut out = String::with_capacity(200_000);
     let _ = write!(

@@ -1,8 +1,26 @@
 //! The results of `check` as JUnit XML, for CI systems that read it. No
 //! timings are written, so the same results give the same bytes.
 
-use super::{CaseResult, Status};
+use super::{Output, OutputFile};
+use crate::check::{CaseResult, Status};
+use anyhow::Result;
 use std::fmt::Write;
+
+/// The JUnit XML output of a check, under the file name the user chose.
+pub struct JunitXml {
+    /// File name inside the output folder.
+    pub file_name: String,
+}
+
+impl Output<[CaseResult]> for JunitXml {
+    fn format(&self) -> &'static str {
+        "junit"
+    }
+
+    fn files(&self, results: &[CaseResult]) -> Result<Vec<OutputFile>> {
+        Ok(vec![self.file(self.file_name.as_str(), render(results))])
+    }
+}
 
 /// Escape text for XML attributes and content: the HTML escapes (valid in
 /// XML too), with the control characters XML 1.0 does not allow blanked.
@@ -17,7 +35,7 @@ fn escape(text: &str) -> String {
             }
         })
         .collect();
-    crate::report::html::escape(&clean)
+    super::html::escape(&clean)
 }
 
 /// The JUnit XML of a check run.

@@ -1,20 +1,20 @@
 //! `summary.json`: the run in brief (see [`crate::summary::Summary`]).
 
-use super::{write_file, Exporter, Report};
+use super::report::Report;
+use super::{Output, OutputFile};
 use anyhow::Result;
-use std::path::Path;
 
 /// The JSON writer.
 pub struct SummaryJson;
 
-impl Exporter for SummaryJson {
-    fn name(&self) -> &'static str {
+impl Output<Report> for SummaryJson {
+    fn format(&self) -> &'static str {
         "json"
     }
 
-    fn write(&self, report: &Report, dir: &Path) -> Result<()> {
+    fn files(&self, report: &Report) -> Result<Vec<OutputFile>> {
         let mut text = serde_json::to_string_pretty(&report.summary)?;
         text.push('\n');
-        write_file(&dir.join("summary.json"), text.as_bytes())
+        Ok(vec![self.file("summary.json", text)])
     }
 }

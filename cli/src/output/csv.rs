@@ -1,10 +1,10 @@
 //! `samples.csv`: one row per sample, units in the column names, numbers
 //! with fixed significant digits.
 
-use super::{write_file, Exporter, Report};
+use super::report::Report;
+use super::{Output, OutputFile};
 use crate::format::sig;
 use anyhow::Result;
-use std::path::Path;
 use tidewater::Trajectory;
 
 /// The column names, in order (a contract: tests and users rely on them).
@@ -86,12 +86,12 @@ pub fn render(report: &Report) -> String {
     out
 }
 
-impl Exporter for Samples {
-    fn name(&self) -> &'static str {
+impl Output<Report> for Samples {
+    fn format(&self) -> &'static str {
         "csv"
     }
 
-    fn write(&self, report: &Report, dir: &Path) -> Result<()> {
-        write_file(&dir.join("samples.csv"), render(report).as_bytes())
+    fn files(&self, report: &Report) -> Result<Vec<OutputFile>> {
+        Ok(vec![self.file("samples.csv", render(report))])
     }
 }

@@ -1,0 +1,227 @@
+//! The serum sodium chart: the simulated course, the corridor the
+//! guideline limits allow for a course moving steadily from the start,
+//! and a marker where each rule was first crossed.
+
+use super::frame::{canvas, err, legend, padded, picks, series, time_axes, x_range, Size};
+use super::{CEILING, FLAG, FONT, PERMITTED, SODIUM, WIDTH};
+use crate::input::RunInput;
+use crate::summary::Summary;
+use anyhow::Result;
+use plotters::prelude::*;
+use tidewater::limits::{Direction, Severity};
+use tidewater::trajectory::interpolate;
+use tidewater::Trajectory;
+
+/// A value between samples: linear ([`interpolate`]), except next to a
+/// value that is not finite (a time no rule covers), where it is the later
+/// sample's value.
+fn value_at(times: &[f64], values: &[f64], t: f64) -> f64 {
+    let j = times.partition_point(|&x| x < t);
+    if j > 0 && j < times.len() && !(values[j - 1].is_finite() && values[j].is_finite()) {
+        return values[j];
+    }
+    interpolate(times, values, t)
+}
+
+/// Highest (for rises) or lowest (for falls) serum sodium the guideline
+/// limits allow at each sample time, for a course that moves steadily in
+/// one direction from the start: `c(t) = min over rules of
+/// c(max(from, t − window)) + max_change`. Infinite where no rule applies.
+pub fn corridor(traj: &Trajectory, direction: Direction) -> Vec<f64> {
+    let times = traj.times();
+    let na0 = traj.samples[0].obs.na_mmol_l;
+    let rules: Vec<_> = traj
+        .limits
+        .rules()
+        .iter()
+        .filter(|r| r.direction == direction && r.severity == Severity::Limit)
+        .collect();
+    let mut c = vec![0.0; times.len()];
+    for j in 0..times.len() {
+        let t = times[j];
+        if j == 0 {
+            c[0] = 0.0;
+            continue;
+        }
+        let mut best = f64::INFINITY;
+        for r in &rules {
+            if t <= r.from_h + 1e-9 || r.to_h.is_some_and(|end| t > end + 1e-9) {
+                continue;
+            }
+            let from = r.from_h.max(t - r.window_h);
+            let base = if from >= times[j - 1] {
+                c[j - 1]
+            } else {
+                value_at(&times[..j], &c[..j], from)
+            };
+            best = best.min(base + r.max_mmol_l);
+        }
+        c[j] = best;
+    }
+    let sign = match direction {
+        Direction::Rise => 1.0,
+        Direction::Fall => -1.0,
+    };
+    c.iter().map(|x| na0 + sign * x).collect()
+}
+
+/// The chart (SVG text).
+pub fn chart(input: &RunInput, summary: &Summary) -> Result<String> {
+    let traj = &input.trajectory;
+    let na: Vec<(f64, f64)> = series(traj, |s| s.obs.na_mmol_l);
+    let na0 = summary.sodium.start.mmol_l;
+    let rises = summary.sodium.max.mmol_l - na0 >= na0 - summary.sodium.min.mmol_l;
+    let direction = if rises {
+        Direction::Rise
+    } else {
+        Direction::Fall
+    };
+    let bound = corridor(traj, direction);
+    let times = traj.times();
+    let (mut lo, mut hi) = (summary.sodium.min.mmol_l, summary.sodium.max.mmol_l);
+    let finite_bound: Vec<f64> = bound.iter().copied().filter(|b| b.is_finite()).collect();
+    let reach = 25.0;
+    for b in &finite_bound {
+        if rises && *b <= hi + reach {
+            hi = hi.max(*b);
+        }
+        if !rises && *b >= lo - reach {
+            lo = lo.min(*b);
+        }
+    }
+    let y = padded(lo, hi, 0.08, 6.0);
+    let x = x_range(traj);
+
+    canvas((WIDTH, 460), |root| {
+        let mut chart = time_axes(
+            root,
+            Size::Full,
+            &format!("Serum sodium: {}", input.title),
+            x.clone(),
+            y.clone(),
+            "Serum sodium (mmol/L)",
+        )?;
+
+        // Permitted region (between the guideline bound and the far edge).
+        let edge = if rises { y.start } else { y.end };
+        let clamp = |b: f64| b.clamp(y.start, y.end);
+        let picks_idx = picks(times.len());
+        let mut polygon: Vec<(f64, f64)> = picks_idx
+            .iter()
+            .map(|&j| (times[j], clamp(bound[j])))
+            .collect();
+        polygon.push((times[times.len() - 1], edge));
+        polygon.push((times[0], edge));
+        if !finite_bound.is_empty() {
+            chart
+                .draw_series(std::iter::once(Polygon::new(
+                    polygon,
+                    PERMITTED.mix(0.22).filled(),
+                )))
+                .map_err(err)?
+                .label(format!(
+                    "Within {} limits ({})",
+                    traj.limits.guideline.id,
+                    if rises { "rise" } else { "fall" }
+                ))
+                .legend(|(x, y)| {
+                    Rectangle::new([(x, y - 6), (x + 22, y + 6)], PERMITTED.mix(0.35).filled())
+                });
+            chart
+                .draw_series(LineSeries::new(
+                    picks_idx
+                        .iter()
+                        .filter(|&&j| bound[j].is_finite())
+                        .map(|&j| (times[j], clamp(bound[j]))),
+                    CEILING.stroke_width(2),
+                ))
+                .map_err(err)?
+                .label(if rises {
+                    "Highest sodium the limits allow"
+                } else {
+                    "Lowest sodium the limits allow"
+                })
+                .legend(|(x, y)| {
+                    PathElement::new(vec![(x, y), (x + 22, y)], CEILING.stroke_width(2))
+                });
+        }
+        chart
+            .draw_series(LineSeries::new(na.iter().copied(), SODIUM.stroke_width(3)))
+            .map_err(err)?
+            .label("Serum sodium (simulated)")
+            .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 22, y)], SODIUM.stroke_width(3)));
+
+        // Flags: a marker where each rule was first crossed.
+        let all_na = traj.sodium();
+        let mut first = true;
+        for (k, f) in traj.flags.iter().enumerate() {
+            let v = value_at(&times, &all_na, f.time_h);
+            let anno = chart
+                .draw_series(vec![
+                    PathElement::new(
+                        vec![(f.time_h, y.start), (f.time_h, y.end)],
+                        FLAG.mix(0.6).stroke_width(1),
+                    )
+                    .into_dyn(),
+                    TriangleMarker::new((f.time_h, v), 9, FLAG.filled()).into_dyn(),
+                    Text::new(
+                        format!(
+                            "{} crossed at {} h",
+                            f.rule.label,
+                            crate::format::sig(f.time_h, 3)
+                        ),
+                        (
+                            f.time_h,
+                            y.end - (y.end - y.start) * (0.05 + 0.06 * k as f64),
+                        ),
+                        (FONT, 12).into_font().color(&FLAG),
+                    )
+                    .into_dyn(),
+                ])
+                .map_err(err)?;
+            if first {
+                anno.label("Guideline flag")
+                    .legend(|(x, y)| TriangleMarker::new((x + 11, y), 7, FLAG.filled()));
+                first = false;
+            }
+        }
+        legend(&mut chart, SeriesLabelPosition::LowerRight)
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn european_corridor_is_ten_then_eighteen() {
+        // Spasovski et al. 2014: at most 10 mmol/L in the first 24 h and
+        // 8 mmol/L in each later 24 h, so a steady rise may reach the start
+        // + 10 at 24 h and the start + 18 at 48 h.
+        let plan = tidewater::reference::benchmark_plan();
+        let traj = tidewater::Simulation::new(plan).unwrap().run().unwrap();
+        let c = corridor(&traj, Direction::Rise);
+        let na0 = traj.samples[0].obs.na_mmol_l;
+        let at = |t: f64| {
+            c[traj
+                .samples
+                .iter()
+                .position(|s| (s.time_h - t).abs() < 1e-6)
+                .unwrap()]
+        };
+        assert!((at(12.0) - (na0 + 10.0)).abs() < 1e-9);
+        assert!((at(24.0) - (na0 + 10.0)).abs() < 1e-9);
+        assert!((at(48.0) - (na0 + 18.0)).abs() < 1e-9);
+    }
+
+    #[test]
+    fn values_between_samples() {
+        let times = [0.0, 1.0, 2.0, 3.0];
+        let values = [10.0, 20.0, f64::INFINITY, 40.0];
+        assert_eq!(value_at(&times, &values, -1.0), 10.0);
+        assert_eq!(value_at(&times, &values, 0.25), 12.5);
+        // Next to a time no rule covers: the later sample.
+        assert_eq!(value_at(&times, &values, 1.5), f64::INFINITY);
+        assert_eq!(value_at(&times, &values, 2.5), 40.0);
+    }
+}

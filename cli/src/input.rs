@@ -403,8 +403,8 @@ pub fn describe_stream(s: &Stream) -> String {
     if r.desmopressin_depot_ug_h + r.desmopressin_ug_h > 0.0 {
         parts.push("desmopressin".into());
     }
-    if r.loop_diuretic_effect > 0.0 {
-        parts.push("loop diuretic effect".into());
+    if r.loop_diuretic_mg_h + r.loop_diuretic_depot_mg_h > 0.0 {
+        parts.push("loop diuretic".into());
     }
     if r.thiazide_effect > 0.0 {
         parts.push("thiazide effect".into());

@@ -69,7 +69,10 @@ fn build_plan(name: &str) -> Result<Plan, BoxError> {
             Plan::new(patient)
                 .run_for(36.0)
                 .start(0.0, Stream::give(fluids.get("saline_0_9")?, 1.0, 8.0)?)
-                .start(2.0, Stream::loop_diuretic(40.0, &params)?)
+                .start(
+                    2.0,
+                    Stream::loop_diuretic(40.0, Route::Intravenous, &params)?,
+                )
                 .start(
                     10.0,
                     Stream::desmopressin(2.0, Route::parse("iv")?, &params)?,

@@ -72,6 +72,10 @@ pub enum S {
     GutUrea,
     /// Glucose in the gut lumen not yet absorbed, mmol.
     GutGlucose,
+    /// Oral loop diuretic not yet absorbed, mg.
+    LoopDiureticDepot,
+    /// Loop diuretic in the body, mg.
+    LoopDiuretic,
     /// Cumulative water in, L.
     InWater,
     /// Cumulative sodium in, mmol.
@@ -138,6 +142,8 @@ pub const STATE_NAMES: [&str; N_STATES] = [
     "gut potassium",
     "gut urea",
     "gut glucose",
+    "loop diuretic depot",
+    "loop diuretic",
     "cumulative water in",
     "cumulative sodium in",
     "cumulative potassium in",

@@ -161,18 +161,47 @@ impl Stream {
         })
     }
 
-    /// A dose of a loop diuretic (furosemide-equivalent mg): effect in
-    /// proportion to the dose up to full effect, for the effect duration
-    /// of `params`.
-    pub fn loop_diuretic(dose_mg: f64, params: &Params) -> Result<Self, InputError> {
+    /// A dose of a loop diuretic (furosemide-equivalent mg), intravenous
+    /// (into the circulation over 2 min) or oral (its bioavailable share
+    /// into an absorption depot over 5 min); its effect then follows the
+    /// amount in the body (docs/model.md, drugs).
+    pub fn loop_diuretic(dose_mg: f64, route: Route, params: &Params) -> Result<Self, InputError> {
         check_dose("loop diuretic dose", dose_mg, 0.0, 1000.0, "mg")?;
+        let rates = match route {
+            Route::Intravenous => {
+                let over_h = 2.0 / 60.0;
+                (
+                    Inputs {
+                        loop_diuretic_mg_h: dose_mg / over_h,
+                        ..Default::default()
+                    },
+                    over_h,
+                )
+            }
+            Route::Oral => {
+                let over_h = 5.0 / 60.0;
+                (
+                    Inputs {
+                        loop_diuretic_depot_mg_h: dose_mg
+                            * params.loop_diuretic_bioavailability_oral
+                            / over_h,
+                        ..Default::default()
+                    },
+                    over_h,
+                )
+            }
+            other => {
+                return Err(InputError::BadChoice {
+                    field: "loop diuretic route".into(),
+                    value: format!("{other:?}").to_lowercase(),
+                    expected: "iv, oral".into(),
+                })
+            }
+        };
         Ok(Stream {
             label: "loop_diuretic".into(),
-            rates: Inputs {
-                loop_diuretic_effect: (dose_mg / params.loop_diuretic_full_dose_mg).min(1.0),
-                ..Default::default()
-            },
-            duration_h: Some(params.loop_diuretic_duration_h),
+            rates: rates.0,
+            duration_h: Some(rates.1),
         })
     }
 

@@ -40,6 +40,10 @@ pub const READ_AS_IT_RUNS: &[&str] = &[
     "insulin_activity",
     "insulin_gain",
     "kaliuresis_exponent",
+    "loop_diuretic_absorption_h",
+    "loop_diuretic_ec50_mg",
+    "loop_diuretic_half_life_h",
+    "loop_diuretic_hill",
     "loop_diuretic_k_mmol_h",
     "loop_diuretic_na_mmol_h",
     "loop_diuretic_urine_osm",
@@ -252,13 +256,14 @@ mod tests {
         y[S::DesmopressinDepot as usize] = 2.0;
         y[S::V2Antagonist as usize] = 10.0;
         y[S::RenalV2Effect as usize] = 2.0;
+        y[S::LoopDiuretic as usize] = 6.0;
+        y[S::LoopDiureticDepot as usize] = 5.0;
         y[S::PlasmaL as usize] *= 0.85;
         y[S::BrainOsmolytes as usize] *= 0.9;
         y[S::UreaCells as usize] *= 1.2;
         y[S::UreaRedCells as usize] *= 1.2;
         y[S::GlucosePlasma as usize] *= 3.0;
         let u = Inputs {
-            loop_diuretic_effect: 0.5,
             thiazide_effect: 0.5,
             ..Default::default()
         };

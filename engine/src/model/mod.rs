@@ -14,7 +14,8 @@ use crate::error::InputError;
 use crate::params::Params;
 use crate::patient::{Onset, ResolvedPatient};
 use crate::physiology::{
-    blood_volume, brain, capillary, glucose, gut, kidney, membrane, osmoregulation, potassium,
+    blood_volume, brain, capillary, drugs, glucose, gut, kidney, membrane, osmoregulation,
+    potassium,
 };
 use crate::units;
 use serde::Serialize;
@@ -71,7 +72,7 @@ impl Switches {
 }
 
 /// Number of entries in the input vector (see [`Inputs::to_vec`]).
-pub const N_INPUTS: usize = 23;
+pub const N_INPUTS: usize = 24;
 
 /// Piecewise-constant inputs during one stretch of time: everything given
 /// to and taken from the body by the scenario, as rates. Infusions enter
@@ -115,8 +116,8 @@ pub struct Inputs {
     pub desmopressin_ug_h: f64,
     /// Oral V2 antagonist absorbed, mg/h.
     pub v2_antagonist_mg_h: f64,
-    /// Loop-diuretic effect, 0 (none) to 1 (full).
-    pub loop_diuretic_effect: f64,
+    /// Loop diuretic straight into the circulation, mg/h.
+    pub loop_diuretic_mg_h: f64,
     /// Thiazide effect, 0 (none) to 1 (full).
     pub thiazide_effect: f64,
     /// Water drunk or given by tube into the gut, L/h.
@@ -129,6 +130,9 @@ pub struct Inputs {
     pub oral_urea_mmol_h: f64,
     /// Glucose into the gut, mmol/h.
     pub oral_glucose_mmol_h: f64,
+    /// Oral loop diuretic into its absorption depot (the bioavailable
+    /// share), mg/h.
+    pub loop_diuretic_depot_mg_h: f64,
 }
 
 impl Inputs {
@@ -156,13 +160,14 @@ impl Inputs {
             self.desmopressin_depot_ug_h,
             self.desmopressin_ug_h,
             self.v2_antagonist_mg_h,
-            self.loop_diuretic_effect,
+            self.loop_diuretic_mg_h,
             self.thiazide_effect,
             self.oral_water_l_h,
             self.oral_na_mmol_h,
             self.oral_k_mmol_h,
             self.oral_urea_mmol_h,
             self.oral_glucose_mmol_h,
+            self.loop_diuretic_depot_mg_h,
         ]
     }
 
@@ -185,13 +190,14 @@ impl Inputs {
             desmopressin_depot_ug_h: p[13],
             desmopressin_ug_h: p[14],
             v2_antagonist_mg_h: p[15],
-            loop_diuretic_effect: p[16],
+            loop_diuretic_mg_h: p[16],
             thiazide_effect: p[17],
             oral_water_l_h: p[18],
             oral_na_mmol_h: p[19],
             oral_k_mmol_h: p[20],
             oral_urea_mmol_h: p[21],
             oral_glucose_mmol_h: p[22],
+            loop_diuretic_depot_mg_h: p[23],
         }
     }
 
@@ -202,8 +208,7 @@ impl Inputs {
             *x += y;
         }
         let mut sum = Inputs::from_slice(&s);
-        // Drug effects do not add beyond full effect.
-        sum.loop_diuretic_effect = sum.loop_diuretic_effect.min(1.0);
+        // A daily thiazide does not add beyond full effect.
         sum.thiazide_effect = sum.thiazide_effect.min(1.0);
         sum
     }
@@ -960,10 +965,14 @@ impl Model {
         // the collecting duct follows it with a lag (state RenalV2Effect).
         let desmopressin_equiv =
             p.desmopressin_avp_equiv_pmol_l_per_ug * s(S::Desmopressin).max(0.0);
-        let antagonism = 1.0 / (1.0 + s(S::V2Antagonist).max(0.0) / p.v2_antagonist_ki_mg);
+        let antagonism = drugs::v2_agonism_left(s(S::V2Antagonist), p.v2_antagonist_ki_mg);
         let v2_target = (vasopressin + desmopressin_equiv) * antagonism;
         let thiazide = u.thiazide_effect.clamp(0.0, 1.0);
-        let loop_effect = u.loop_diuretic_effect.clamp(0.0, 1.0);
+        let loop_effect = drugs::loop_effect(
+            s(S::LoopDiuretic),
+            p.loop_diuretic_ec50_mg,
+            p.loop_diuretic_hill,
+        );
         let osm_min =
             c.urine_osm_min + thiazide * (p.thiazide_min_urine_osm - c.urine_osm_min).max(0.0);
         let concentrated = kidney::urine_osmolality(
@@ -1161,17 +1170,28 @@ impl Model {
         set(S::RedCellOsmoles, -bl * s(S::RedCellOsmoles));
         set(S::BrainOsmolytes, f.brain_osmolyte_mosm_h);
         let p = &self.params;
-        let ln2 = std::f64::consts::LN_2;
-        let absorbed = s(S::DesmopressinDepot).max(0.0) / p.desmopressin_absorption_h;
+        let absorbed = drugs::absorbed_per_h(s(S::DesmopressinDepot), p.desmopressin_absorption_h);
         set(S::DesmopressinDepot, u.desmopressin_depot_ug_h - absorbed);
         set(
             S::Desmopressin,
             u.desmopressin_ug_h + absorbed
-                - ln2 / p.desmopressin_half_life_h * s(S::Desmopressin).max(0.0),
+                - drugs::eliminated_per_h(s(S::Desmopressin), p.desmopressin_half_life_h),
         );
         set(
             S::V2Antagonist,
-            u.v2_antagonist_mg_h - ln2 / p.v2_antagonist_half_life_h * s(S::V2Antagonist).max(0.0),
+            u.v2_antagonist_mg_h
+                - drugs::eliminated_per_h(s(S::V2Antagonist), p.v2_antagonist_half_life_h),
+        );
+        let loop_absorbed =
+            drugs::absorbed_per_h(s(S::LoopDiureticDepot), p.loop_diuretic_absorption_h);
+        set(
+            S::LoopDiureticDepot,
+            u.loop_diuretic_depot_mg_h - loop_absorbed,
+        );
+        set(
+            S::LoopDiuretic,
+            u.loop_diuretic_mg_h + loop_absorbed
+                - drugs::eliminated_per_h(s(S::LoopDiuretic), p.loop_diuretic_half_life_h),
         );
         set(
             S::RenalV2Effect,

@@ -5,6 +5,7 @@
 pub mod blood_volume;
 pub mod brain;
 pub mod capillary;
+pub mod drugs;
 pub mod glucose;
 pub mod gut;
 pub mod kidney;

@@ -69,6 +69,8 @@ pub enum ActionSpec {
     LoopDiuretic {
         /// Dose, mg.
         dose_mg: f64,
+        /// Route (intravenous or oral).
+        route: Route,
     },
     /// A daily thiazide, until stopped.
     Thiazide,
@@ -186,7 +188,9 @@ impl ActionSpec {
                 Stream::desmopressin(*dose_ug, *route, &ctx.params)?
             }
             ActionSpec::V2Antagonist { dose_mg } => Stream::v2_antagonist(*dose_mg)?,
-            ActionSpec::LoopDiuretic { dose_mg } => Stream::loop_diuretic(*dose_mg, &ctx.params)?,
+            ActionSpec::LoopDiuretic { dose_mg, route } => {
+                Stream::loop_diuretic(*dose_mg, *route, &ctx.params)?
+            }
             ActionSpec::Thiazide => Stream::thiazide(),
             ActionSpec::Tablets {
                 na_mmol,
@@ -272,7 +276,9 @@ impl fmt::Display for ActionSpec {
                 write!(f, "desmopressin {dose_ug} micrograms {route:?}")
             }
             ActionSpec::V2Antagonist { dose_mg } => write!(f, "V2 antagonist {dose_mg} mg"),
-            ActionSpec::LoopDiuretic { dose_mg } => write!(f, "loop diuretic {dose_mg} mg"),
+            ActionSpec::LoopDiuretic { dose_mg, route } => {
+                write!(f, "loop diuretic {dose_mg} mg {route:?}")
+            }
             ActionSpec::Thiazide => write!(f, "thiazide daily"),
             ActionSpec::Tablets {
                 na_mmol,

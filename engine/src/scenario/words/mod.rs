@@ -56,7 +56,10 @@ pub const WORDS: &[(&str, &str)] = &[
     ("stop_all", "stop_all()"),
     ("desmopressin", "desmopressin(dose, route)"),
     ("v2_antagonist", "v2_antagonist(dose)"),
-    ("loop_diuretic", "loop_diuretic(dose)"),
+    (
+        "loop_diuretic",
+        "loop_diuretic(dose) or loop_diuretic(dose, route)",
+    ),
     ("thiazide", "thiazide()"),
     ("salt_tablets", "salt_tablets(amount)"),
     ("potassium_tablets", "potassium_tablets(amount)"),

@@ -38,6 +38,38 @@ pub(super) fn new_action(ctx: &NativeCallContext, st: &Shared, spec: ActionSpec)
     v
 }
 
+/// `loop_diuretic(dose)` (intravenous) or `loop_diuretic(dose, route)`.
+fn loop_diuretic(
+    ctx: &NativeCallContext,
+    s: &Shared,
+    dose: &Dynamic,
+    route: Option<&Dynamic>,
+) -> Res<ActionValue> {
+    let amount = arg_amount(ctx, "loop_diuretic", "the dose", dose)?;
+    let grams = amount
+        .grams("loop diuretic dose")
+        .or_else(|m| fail(ctx, m))?;
+    let route = match route {
+        None => Route::Intravenous,
+        Some(r) => {
+            let text = arg_text(ctx, "loop_diuretic", "the route", r)?;
+            match Route::parse(&text) {
+                Ok(r @ (Route::Intravenous | Route::Oral)) => r,
+                Ok(_) => return fail(ctx, format!("loop_diuretic: route \"{text}\" is not given for a loop diuretic; use \"iv\" or \"oral\"")),
+                Err(e) => return fail(ctx, format!("loop_diuretic: {e}")),
+            }
+        }
+    };
+    Ok(new_action(
+        ctx,
+        s,
+        ActionSpec::LoopDiuretic {
+            dose_mg: grams * 1e3,
+            route,
+        },
+    ))
+}
+
 /// The fluid argument of `word`, looked up in the library.
 fn fluid(ctx: &NativeCallContext, st: &Shared, word: &str, d: &Dynamic) -> Res<crate::Fluid> {
     let id = arg_text(ctx, word, "the fluid", d)?;
@@ -248,17 +280,14 @@ pub(super) fn register(engine: &mut Engine, st: &Shared) {
     engine.register_fn(
         "loop_diuretic",
         move |ctx: NativeCallContext, dose: Dynamic| -> Res<ActionValue> {
-            let amount = arg_amount(&ctx, "loop_diuretic", "the dose", &dose)?;
-            let grams = amount
-                .grams("loop diuretic dose")
-                .or_else(|m| fail(&ctx, m))?;
-            Ok(new_action(
-                &ctx,
-                &s,
-                ActionSpec::LoopDiuretic {
-                    dose_mg: grams * 1e3,
-                },
-            ))
+            loop_diuretic(&ctx, &s, &dose, None)
+        },
+    );
+    let s = st.clone();
+    engine.register_fn(
+        "loop_diuretic",
+        move |ctx: NativeCallContext, dose: Dynamic, route: Dynamic| -> Res<ActionValue> {
+            loop_diuretic(&ctx, &s, &dose, Some(&route))
         },
     );
     let s = st.clone();

@@ -16,6 +16,7 @@
 
 use crate::error::InputError;
 use crate::limits::Severity;
+use crate::numeric::gcd;
 use crate::trajectory::Trajectory;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
@@ -598,15 +599,6 @@ fn affine_permutation(i: usize, n: usize, a: u64, b: u64) -> usize {
         }
     }
     ((a as u128 * i as u128 + (b % n64) as u128) % n as u128) as usize
-}
-
-fn gcd(mut a: u64, mut b: u64) -> u64 {
-    while b != 0 {
-        let t = a % b;
-        a = b;
-        b = t;
-    }
-    a
 }
 
 // ---------------------------------------------------------------------------

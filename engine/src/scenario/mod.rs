@@ -54,6 +54,7 @@ pub use expect::ExpectationResult;
 pub use words::{usage, ActionValue, WORDS};
 
 use crate::error::{InputError, SimulationError};
+use crate::numeric::gcd;
 use crate::simulate::{Plan, Simulation};
 use crate::trajectory::Trajectory;
 use actions::BuildContext;
@@ -630,14 +631,6 @@ struct Reuse {
     log: Rc<RefCell<Vec<String>>>,
     clock: Rc<Cell<Option<Instant>>>,
     ast: AST,
-}
-
-fn gcd(a: u64, b: u64) -> u64 {
-    if b == 0 {
-        a
-    } else {
-        gcd(b, a % b)
-    }
 }
 
 type Finished = (

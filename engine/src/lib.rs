@@ -60,6 +60,7 @@ pub mod formulas;
 pub mod limits;
 pub mod model;
 pub(crate) mod newton_lu;
+pub(crate) mod numeric;
 pub mod params;
 pub mod patient;
 pub mod physiology;

@@ -10,6 +10,7 @@ use super::expect::Expectation;
 use super::units;
 use super::words::{RuleDef, Shared};
 use crate::error::{InputError, SimulationError};
+use crate::numeric::gcd;
 use crate::simulate::{Plan, Simulation};
 use std::path::Path;
 
@@ -30,14 +31,6 @@ pub(super) struct Assembled {
     pub description: String,
     /// Planned starts: (time, h; script line).
     pub started: Vec<(f64, usize)>,
-}
-
-fn gcd(a: u64, b: u64) -> u64 {
-    if b == 0 {
-        a
-    } else {
-        gcd(b, a % b)
-    }
 }
 
 /// Turn what the script said into a checked plan.

@@ -1,0 +1,283 @@
+//! Running members: a [`MemberRunner`] turns one member's overrides into a
+//! trajectory (a scenario script, or a bare plan); [`run_sweep`] runs the
+//! members of a shard that a result file lacks on worker threads and
+//! writes their rows in member order through an `OrderedWriter`, so a run
+//! can be interrupted and resumed at any point.
+
+use super::design::Shard;
+use super::error::SweepError;
+use super::rows::{completed_members, result_header, result_row};
+use super::spec::SweepSpec;
+use crate::trajectory::Trajectory;
+use std::collections::BTreeMap;
+use std::io::Write;
+use std::path::Path;
+
+/// Runs one member: applies the overrides `(name, value)` to the base
+/// scenario and simulates it. One runner lives on each worker thread.
+pub trait MemberRunner {
+    /// Simulate the base scenario with these overrides.
+    fn run(&mut self, overrides: &[(String, f64)]) -> Result<Trajectory, String>;
+}
+
+/// Set a numeric patient field by name (`weight_kg`, `na`, ...).
+pub fn set_patient_field(
+    patient: &mut crate::patient::Patient,
+    field: &str,
+    value: f64,
+) -> Result<(), String> {
+    let slot: &mut Option<f64> = match field {
+        "age_years" => {
+            patient.age_years = value;
+            return Ok(());
+        }
+        "weight_kg" => {
+            patient.weight_kg = value;
+            return Ok(());
+        }
+        "height_cm" => &mut patient.height_cm,
+        "water_fraction" => &mut patient.water_fraction,
+        "na" => &mut patient.na,
+        "k" => &mut patient.k,
+        "glucose_mmol_l" => &mut patient.glucose_mmol_l,
+        "glucose_mg_dl" => &mut patient.glucose_mg_dl,
+        "urea_mmol_l" => &mut patient.urea_mmol_l,
+        "bun_mg_dl" => &mut patient.bun_mg_dl,
+        "albumin_g_l" => &mut patient.albumin_g_l,
+        "hematocrit" => &mut patient.hematocrit,
+        other => {
+            let known = [
+                "age_years",
+                "weight_kg",
+                "height_cm",
+                "water_fraction",
+                "na",
+                "k",
+                "glucose_mmol_l",
+                "glucose_mg_dl",
+                "urea_mmol_l",
+                "bun_mg_dl",
+                "albumin_g_l",
+                "hematocrit",
+            ];
+            return Err(format!(
+                "patient.{other} is not a numeric patient field{}",
+                crate::suggest::closest(other, known)
+                    .map(|s| format!(" (did you mean \"patient.{s}\"?)"))
+                    .unwrap_or_default()
+            ));
+        }
+    };
+    *slot = Some(value);
+    Ok(())
+}
+
+/// Apply sweep overrides to a plan: `patient.<field>` to the patient,
+/// other names as parameter overrides.
+pub fn apply_overrides(
+    plan: &mut crate::simulate::Plan,
+    overrides: &[(String, f64)],
+) -> Result<(), String> {
+    for (name, value) in overrides {
+        if name.starts_with("script.") {
+            // Script settings are applied when the script is loaded.
+            continue;
+        }
+        match name.strip_prefix("patient.") {
+            Some(field) => set_patient_field(&mut plan.patient, field, *value)?,
+            None => {
+                plan.params
+                    .clone()
+                    .set(name, *value)
+                    .map_err(|e| e.to_string())?;
+                plan.overrides.push((name.clone(), *value));
+            }
+        }
+    }
+    Ok(())
+}
+
+/// A runner for a base scenario script: each member is the script loaded
+/// afresh (with the member's `script.<name>` settings), its plan changed by
+/// the member's other overrides, run with the script's rules and
+/// expectations.
+pub struct ScenarioRunner {
+    /// The base scenario, loaded once per worker.
+    pub scenario: crate::scenario::Scenario,
+    /// The spec's solver tolerance, if it sets one ([`SweepSpec::rtol`]).
+    pub rtol: Option<f64>,
+}
+
+impl MemberRunner for ScenarioRunner {
+    fn run(&mut self, overrides: &[(String, f64)]) -> Result<Trajectory, String> {
+        let settings: Vec<(String, f64)> = overrides
+            .iter()
+            .filter_map(|(n, v)| n.strip_prefix("script.").map(|s| (s.to_string(), *v)))
+            .collect();
+        let reloaded;
+        let scenario = if settings.is_empty() {
+            &self.scenario
+        } else {
+            reloaded = self
+                .scenario
+                .reloaded(&settings)
+                .map_err(|e| e.to_string())?;
+            &reloaded
+        };
+        let mut plan = scenario.plan().clone();
+        apply_overrides(&mut plan, overrides)?;
+        if let Some(rtol) = self.rtol {
+            plan.tolerances.rtol = rtol;
+        }
+        scenario
+            .run_with_plan(plan)
+            .map(|r| r.trajectory)
+            .map_err(|e| e.to_string())
+    }
+}
+
+/// A runner for a base [`crate::Plan`] without rules.
+#[derive(Debug, Clone)]
+pub struct PlanRunner {
+    /// The base plan.
+    pub base: crate::simulate::Plan,
+}
+
+impl MemberRunner for PlanRunner {
+    fn run(&mut self, overrides: &[(String, f64)]) -> Result<Trajectory, String> {
+        if let Some((name, _)) = overrides.iter().find(|(n, _)| n.starts_with("script.")) {
+            return Err(format!(
+                "{name}: script settings need a scenario script as the base"
+            ));
+        }
+        let mut plan = self.base.clone();
+        apply_overrides(&mut plan, overrides)?;
+        crate::simulate::Simulation::new(plan)
+            .and_then(|s| s.run())
+            .map_err(|e| e.to_string())
+    }
+}
+
+/// Progress of a running sweep, for a progress bar.
+pub trait Progress: Sync {
+    /// `done` more members finished.
+    fn advance(&self, done: usize);
+}
+
+impl Progress for () {
+    fn advance(&self, _done: usize) {}
+}
+
+/// Run (or resume) a sweep into `out` (CSV). Members of `shard` not yet in
+/// the file are run on `threads` workers, each with its own runner from
+/// `make_runner`; rows are written in member order as they complete, so an
+/// interrupted run can resume. Returns the number of members run now.
+pub fn run_sweep<R, F>(
+    spec: &SweepSpec,
+    duration_h: f64,
+    out: &Path,
+    shard: Shard,
+    threads: usize,
+    make_runner: F,
+    progress: &dyn Progress,
+) -> Result<usize, SweepError>
+where
+    R: MemberRunner,
+    F: Fn() -> Result<R, String> + Sync,
+{
+    let header = result_header(spec, duration_h);
+    let file_name = out.display().to_string();
+    let done: std::collections::HashSet<usize> = if out.exists() {
+        completed_members(out, &header)?.into_iter().collect()
+    } else {
+        std::fs::write(out, format!("{}\n", header.join(",")))
+            .map_err(|e| SweepError::io(&file_name, e))?;
+        Default::default()
+    };
+    let todo: Vec<usize> = (0..spec.member_count())
+        .filter(|i| shard.contains(*i) && !done.contains(i))
+        .collect();
+    if todo.is_empty() {
+        return Ok(0);
+    }
+    let file = std::fs::OpenOptions::new()
+        .append(true)
+        .open(out)
+        .map_err(|e| SweepError::io(&file_name, e))?;
+    let writer = std::sync::Mutex::new(OrderedWriter {
+        out: std::io::BufWriter::new(file),
+        next: 0,
+        pending: BTreeMap::new(),
+    });
+    let next_job = std::sync::atomic::AtomicUsize::new(0);
+    let threads = threads.max(1).min(todo.len());
+    // A worker whose runner cannot be made, or whose row cannot be
+    // written, records why; the others stop at their next member.
+    let failure: std::sync::Mutex<Option<SweepError>> = std::sync::Mutex::new(None);
+    std::thread::scope(|scope| {
+        for _ in 0..threads {
+            scope.spawn(|| {
+                let mut runner = match make_runner() {
+                    Ok(r) => r,
+                    Err(message) => {
+                        *failure.lock().expect("lock") = Some(SweepError::Runner {
+                            file: file_name.clone(),
+                            message,
+                        });
+                        return;
+                    }
+                };
+                loop {
+                    let k = next_job.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+                    if k >= todo.len() || failure.lock().expect("lock").is_some() {
+                        break;
+                    }
+                    let member = spec.member(todo[k]);
+                    let overrides: Vec<(String, f64)> = spec
+                        .parameters
+                        .iter()
+                        .zip(member.values.iter())
+                        .map(|(p, v)| (p.name.clone(), *v))
+                        .collect();
+                    let outcome = runner.run(&overrides);
+                    let row = result_row(spec, &member, duration_h, &outcome);
+                    let mut w = writer.lock().expect("lock");
+                    if let Err(e) = w.put(k, row) {
+                        *failure.lock().expect("lock") = Some(SweepError::io(&file_name, e));
+                        break;
+                    }
+                    drop(w);
+                    progress.advance(1);
+                }
+            });
+        }
+    });
+    if let Some(e) = failure.into_inner().expect("lock") {
+        return Err(e);
+    }
+    let mut w = writer.into_inner().expect("lock");
+    w.out.flush().map_err(|e| SweepError::io(&file_name, e))?;
+    Ok(todo.len())
+}
+
+/// Writes rows in job order even when workers finish out of order.
+struct OrderedWriter<W: Write> {
+    out: W,
+    next: usize,
+    pending: BTreeMap<usize, String>,
+}
+
+impl<W: Write> OrderedWriter<W> {
+    fn put(&mut self, k: usize, row: String) -> std::io::Result<()> {
+        self.pending.insert(k, row);
+        while let Some(row) = self.pending.remove(&self.next) {
+            self.out.write_all(row.as_bytes())?;
+            self.out.write_all(b"\n")?;
+            self.next += 1;
+        }
+        if self.pending.is_empty() {
+            self.out.flush()?;
+        }
+        Ok(())
+    }
+}

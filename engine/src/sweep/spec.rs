@@ -1,0 +1,411 @@
+//! The sweep spec (YAML): the base scenario, the varied parameters with
+//! their lists, ranges or distributions, the design, the outputs kept, and
+//! the checks a spec must pass before anything runs.
+
+use super::error::{DistributionProblem, SpecProblem, SweepError};
+use super::random::{normal_cdf, normal_quantile};
+use serde::{Deserialize, Serialize};
+
+/// How one parameter varies across members.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(tag = "kind", rename_all = "snake_case", deny_unknown_fields)]
+pub enum Distribution {
+    /// Uniform on `[min, max]`.
+    Uniform {
+        /// Lower bound.
+        min: f64,
+        /// Upper bound.
+        max: f64,
+    },
+    /// Normal, optionally truncated to `[min, max]`.
+    Normal {
+        /// Mean.
+        mean: f64,
+        /// Standard deviation.
+        sd: f64,
+        /// Lower truncation.
+        #[serde(default)]
+        min: Option<f64>,
+        /// Upper truncation.
+        #[serde(default)]
+        max: Option<f64>,
+    },
+    /// Log-normal given by its median and the standard deviation of its
+    /// logarithm, optionally truncated.
+    LogNormal {
+        /// Median.
+        median: f64,
+        /// Standard deviation of ln(value).
+        sigma: f64,
+        /// Lower truncation.
+        #[serde(default)]
+        min: Option<f64>,
+        /// Upper truncation.
+        #[serde(default)]
+        max: Option<f64>,
+    },
+}
+
+impl Distribution {
+    /// Value at cumulative probability `u` in (0, 1) (inverse transform, so
+    /// that a Latin hypercube stratifies every distribution).
+    pub fn quantile(&self, u: f64) -> f64 {
+        match *self {
+            Distribution::Uniform { min, max } => min + u * (max - min),
+            Distribution::Normal { mean, sd, min, max } => {
+                let lo = min.map_or(0.0, |m| normal_cdf((m - mean) / sd));
+                let hi = max.map_or(1.0, |m| normal_cdf((m - mean) / sd));
+                let x = mean + sd * normal_quantile(lo + u * (hi - lo));
+                clamp_opt(x, min, max)
+            }
+            Distribution::LogNormal {
+                median,
+                sigma,
+                min,
+                max,
+            } => {
+                let mu = median.ln();
+                let lo = min.map_or(0.0, |m| normal_cdf((m.max(1e-300).ln() - mu) / sigma));
+                let hi = max.map_or(1.0, |m| normal_cdf((m.ln() - mu) / sigma));
+                let x = (mu + sigma * normal_quantile(lo + u * (hi - lo))).exp();
+                clamp_opt(x, min, max)
+            }
+        }
+    }
+
+    /// The first condition the distribution's parameters fail, if any.
+    fn problem(&self) -> Option<DistributionProblem> {
+        match *self {
+            Distribution::Uniform { min, max }
+                if !(min.is_finite() && max.is_finite() && min <= max) =>
+            {
+                Some(DistributionProblem::UniformBounds)
+            }
+            Distribution::Normal { sd, .. } if !(sd.is_finite() && sd > 0.0) => {
+                Some(DistributionProblem::NormalSd)
+            }
+            Distribution::LogNormal { median, sigma, .. } if !(median > 0.0 && sigma > 0.0) => {
+                Some(DistributionProblem::LogNormalShape)
+            }
+            Distribution::Normal {
+                min: Some(a),
+                max: Some(b),
+                ..
+            }
+            | Distribution::LogNormal {
+                min: Some(a),
+                max: Some(b),
+                ..
+            } if a >= b => Some(DistributionProblem::Truncation),
+            _ => None,
+        }
+    }
+}
+
+fn clamp_opt(x: f64, min: Option<f64>, max: Option<f64>) -> f64 {
+    let x = min.map_or(x, |m| x.max(m));
+    max.map_or(x, |m| x.min(m))
+}
+
+// ---------------------------------------------------------------------------
+// The spec
+// ---------------------------------------------------------------------------
+
+/// One varied parameter: exactly one of `values`, `range`, `distribution`.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SweepParameter {
+    /// `patient.<field>` or an engine parameter name.
+    pub name: String,
+    /// A fixed list of values.
+    #[serde(default)]
+    pub values: Option<Vec<f64>>,
+    /// A uniform range `[min, max]`.
+    #[serde(default)]
+    pub range: Option<[f64; 2]>,
+    /// A distribution.
+    #[serde(default)]
+    pub distribution: Option<Distribution>,
+}
+
+/// How members are drawn.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Design {
+    /// Every combination of the lists (ranges are split into `levels` points).
+    Grid,
+    /// Independent random draws.
+    Random,
+    /// Latin hypercube: each parameter's distribution cut into `members`
+    /// equal-probability strata, one draw per stratum, strata shuffled.
+    LatinHypercube,
+}
+
+/// Outputs kept for each member.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SweepOutputs {
+    /// Serum sodium at these times, h.
+    #[serde(default)]
+    pub na_at_h: Vec<f64>,
+    /// Keep the largest rise in any 24 h.
+    #[serde(default = "yes")]
+    pub largest_rise_24h: bool,
+    /// Keep the largest rise in any 48 h.
+    #[serde(default = "yes")]
+    pub largest_rise_48h: bool,
+    /// Keep the lowest brain-cell volume index.
+    #[serde(default = "yes")]
+    pub min_brain_volume_index: bool,
+    /// Keep which guideline limits were crossed.
+    #[serde(default = "yes")]
+    pub flags: bool,
+    /// Interval of the sodium series kept for percentile bands, h
+    /// (0: none).
+    #[serde(default = "default_band_every")]
+    pub band_every_h: f64,
+}
+
+fn yes() -> bool {
+    true
+}
+
+fn default_band_every() -> f64 {
+    2.0
+}
+
+impl Default for SweepOutputs {
+    fn default() -> Self {
+        SweepOutputs {
+            na_at_h: vec![24.0, 48.0],
+            largest_rise_24h: true,
+            largest_rise_48h: true,
+            min_brain_volume_index: true,
+            flags: true,
+            band_every_h: 2.0,
+        }
+    }
+}
+
+/// A sweep specification (YAML). Parameter names are engine parameters,
+/// `patient.<field>`, or `script.<name>` for a script's
+/// `setting(name, default)` word.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SweepSpec {
+    /// Base scenario script, relative to the spec file.
+    pub scenario: String,
+    /// Design.
+    pub design: Design,
+    /// Number of members (random and Latin hypercube designs).
+    #[serde(default)]
+    pub members: Option<usize>,
+    /// Points per range in a grid.
+    #[serde(default)]
+    pub levels: Option<usize>,
+    /// Seed of the random numbers.
+    #[serde(default)]
+    pub seed: u64,
+    /// Varied parameters.
+    pub parameters: Vec<SweepParameter>,
+    /// Outputs kept.
+    #[serde(default)]
+    pub outputs: SweepOutputs,
+    /// Share of members (0–1) whose mass balance is checked.
+    #[serde(default = "default_balance_share")]
+    pub check_balance_share: f64,
+    /// Relative tolerance of the solver for every member (default: the
+    /// engine's, [`crate::simulate::Tolerances::default`]). A sweep over
+    /// uncertain parameters rarely needs sodium to 1e-6: a looser tolerance
+    /// buys members per second.
+    #[serde(default)]
+    pub rtol: Option<f64>,
+}
+
+fn default_balance_share() -> f64 {
+    0.01
+}
+
+impl SweepSpec {
+    /// Parse and check a spec; errors name the file, line and field.
+    pub fn from_yaml(text: &str, file: &str) -> Result<Self, SweepError> {
+        let spec: SweepSpec = serde_yaml::from_str(text).map_err(|e| SweepError::Syntax {
+            file: file.to_string(),
+            location: e.location().map(|l| (l.line(), l.column())),
+            message: e.to_string(),
+        })?;
+        spec.check(file)?;
+        Ok(spec)
+    }
+
+    /// The first problem of the spec, in the order a reader meets the
+    /// fields: each parameter in turn, then the design, the tolerance, the
+    /// balance share and the output times.
+    fn check(&self, file: &str) -> Result<(), SweepError> {
+        let fail =
+            |field: String, problem: SpecProblem| Err(SweepError::spec(file, field, problem));
+        if self.parameters.is_empty() {
+            return fail("parameters".into(), SpecProblem::NoParameters);
+        }
+        for (i, p) in self.parameters.iter().enumerate() {
+            let at = |key: &str| format!("parameters[{i}]{key}");
+            let name = || p.name.clone();
+            let given = [
+                p.values.is_some(),
+                p.range.is_some(),
+                p.distribution.is_some(),
+            ]
+            .iter()
+            .filter(|&&b| b)
+            .count();
+            if given != 1 {
+                return fail(at(""), SpecProblem::NotOneForm { name: name() });
+            }
+            if let Some(v) = &p.values {
+                if v.is_empty() || v.iter().any(|x| !x.is_finite()) {
+                    return fail(at(".values"), SpecProblem::Values { name: name() });
+                }
+            }
+            if let Some([a, b]) = p.range {
+                if !(a.is_finite() && b.is_finite() && a <= b) {
+                    return fail(at(".range"), SpecProblem::Range { name: name() });
+                }
+            }
+            if let Some(problem) = p.distribution.as_ref().and_then(Distribution::problem) {
+                return fail(
+                    at(".distribution"),
+                    SpecProblem::Distribution {
+                        name: name(),
+                        problem,
+                    },
+                );
+            }
+            if !p.name.starts_with("patient.")
+                && !p.name.starts_with("script.")
+                && crate::params::info(&p.name).is_none()
+            {
+                let suggestion = crate::suggest::closest(
+                    &p.name,
+                    crate::params::PARAMETERS.iter().map(|i| i.name),
+                );
+                return fail(
+                    at(".name"),
+                    SpecProblem::UnknownName {
+                        name: name(),
+                        suggestion,
+                    },
+                );
+            }
+        }
+        match self.design {
+            Design::Grid => {
+                if let Some(i) = self
+                    .parameters
+                    .iter()
+                    .position(|p| p.distribution.is_some())
+                {
+                    return fail(
+                        format!("parameters[{i}].distribution"),
+                        SpecProblem::GridDistribution,
+                    );
+                }
+                if self.parameters.iter().any(|p| p.range.is_some()) && self.levels.unwrap_or(0) < 2
+                {
+                    return fail("levels".into(), SpecProblem::GridLevels);
+                }
+            }
+            Design::Random | Design::LatinHypercube => {
+                if self.members.unwrap_or(0) == 0 {
+                    return fail("members".into(), SpecProblem::NoMembers);
+                }
+            }
+        }
+        if let Some(rtol) = self.rtol {
+            if !(1e-10..=1e-2).contains(&rtol) {
+                return fail("rtol".into(), SpecProblem::Rtol { rtol });
+            }
+        }
+        if !(0.0..=1.0).contains(&self.check_balance_share) {
+            return fail("check_balance_share".into(), SpecProblem::BalanceShare);
+        }
+        if self.outputs.band_every_h < 0.0 {
+            return fail("outputs.band_every_h".into(), SpecProblem::OutputTime);
+        }
+        if let Some(k) = self
+            .outputs
+            .na_at_h
+            .iter()
+            .position(|t| *t < 0.0 || !t.is_finite())
+        {
+            return fail(format!("outputs.na_at_h[{k}]"), SpecProblem::OutputTime);
+        }
+        Ok(())
+    }
+}
+
+#[cfg(test)]
+pub(super) mod tests {
+    use super::*;
+
+    /// A spec with a range, a list and a truncated log-normal, for the
+    /// tests of this folder.
+    pub(in crate::sweep) fn spec(design: &str, extra: &str) -> SweepSpec {
+        let text = format!(
+            "scenario: base.rhai\ndesign: {design}\nseed: 7\n{extra}parameters:\n  - name: natriuresis_gain\n    range: [8, 18]\n  - name: patient.weight_kg\n    values: [50, 60, 70]\n  - name: gfr_ml_min\n    distribution: {{ kind: log_normal, median: 90, sigma: 0.3, min: 30, max: 150 }}\n"
+        );
+        SweepSpec::from_yaml(&text, "s.yaml").unwrap()
+    }
+
+    #[test]
+    fn bad_specs_name_the_problem() {
+        let err = SweepSpec::from_yaml("scenario: b\ndesign: random\nmembers: 5\nparameters:\n  - name: natriuresis_gian\n    range: [1, 2]\n", "x.yaml")
+            .unwrap_err()
+            .to_string();
+        assert!(
+            err.contains("x.yaml") && err.contains("did you mean \"natriuresis_gain\""),
+            "{err}"
+        );
+        let err = SweepSpec::from_yaml("scenario: b\ndesign: random\nmembers: 5\nparameters:\n  - name: gfr_ml_min\n    rnage: [1, 2]\n", "x.yaml")
+            .unwrap_err()
+            .to_string();
+        assert!(err.contains("x.yaml:6") && err.contains("rnage"), "{err}");
+        let err = SweepSpec::from_yaml("scenario: b\ndesign: random\nmembers: 5\nrtol: 0.5\nparameters:\n  - name: gfr_ml_min\n    range: [1, 2]\n", "x.yaml")
+            .unwrap_err()
+            .to_string();
+        assert!(err.contains("x.yaml") && err.contains("rtol"), "{err}");
+    }
+
+    #[test]
+    fn a_bad_field_is_named_by_its_path_in_the_spec() {
+        let head = "scenario: b\ndesign: random\nmembers: 5\n";
+        let ok = "  - name: gfr_ml_min\n    range: [1, 2]\n";
+        let cases = [
+            (
+                format!("{head}parameters:\n{ok}  - name: natriuresis_gain\n    values: []\n"),
+                "parameters[1].values",
+                "x.yaml: parameter natriuresis_gain: values must be finite and not empty",
+            ),
+            (
+                format!("{head}parameters:\n{ok}{ok}  - name: gfr_ml_min\n    distribution: {{ kind: normal, mean: 90, sd: 0 }}\n"),
+                "parameters[2].distribution",
+                "x.yaml: parameter gfr_ml_min: normal needs sd > 0",
+            ),
+            (
+                format!("{head}outputs:\n  na_at_h: [6, -1]\nparameters:\n{ok}"),
+                "outputs.na_at_h[1]",
+                "x.yaml: outputs: times must be >= 0",
+            ),
+            (
+                format!("scenario: b\ndesign: grid\nparameters:\n{ok}"),
+                "levels",
+                "x.yaml: design grid: ranges need levels >= 2",
+            ),
+        ];
+        for (text, field, message) in cases {
+            let err = SweepSpec::from_yaml(&text, "x.yaml").unwrap_err();
+            assert_eq!(err.field(), Some(field), "{err}");
+            assert_eq!(err.file(), "x.yaml");
+            assert_eq!(err.to_string(), message);
+        }
+    }
+}

@@ -62,8 +62,10 @@ vocabulary! {
     UrineFlowPeakTime => "urine_flow_peak_time_h", ["within_h"], "h", "time of the highest urine flow within the window";
     UrineVolume => "urine_volume_ml", ["from_h", "to_h"], "mL", "urine passed over the window";
     UrineVolumeFractionOfLoad => "urine_volume_fraction_of_load", ["over_h", "load_ml"], "1", "urine passed from 0 to over_h divided by the volume given";
+    UrineVolumeExcessFractionOfLoad => "urine_volume_excess_fraction_of_load", ["over_h", "load_ml"], "1", "urine passed from 0 to over_h above the starting urine flow kept up over that time, divided by the volume given (a balance study's share of a load excreted)";
     UrineSodium => "urine_sodium_mmol", ["from_h", "to_h"], "mmol", "sodium excreted in urine over the window";
     UrineSodiumFractionOfLoad => "urine_sodium_fraction_of_load", ["over_h", "load_mmol"], "1", "sodium excreted in urine from 0 to over_h divided by the sodium given";
+    UrineSodiumExcessFractionOfLoad => "urine_sodium_excess_fraction_of_load", ["over_h", "load_mmol"], "1", "sodium excreted in urine from 0 to over_h above the starting excretion rate kept up over that time, divided by the sodium given";
     UrineSodiumRatePeak => "urine_sodium_rate_peak_umol_min", ["within_h"], "umol/min", "highest urinary sodium excretion rate within the window";
     FreeWaterClearanceMeanChange => "free_water_clearance_mean_change_ml_min", ["from_h", "to_h"], "mL/min", "time-average of free-water clearance over the window minus its starting value";
     RetainedFractionOfLoad => "retained_fraction_of_load", ["at_h", "load_ml"], "1", "gain of total body water at at_h divided by the volume given";
@@ -397,6 +399,17 @@ impl Metric {
             M::UrineVolumeFractionOfLoad => {
                 let u = ledger(S::UrineL);
                 per_load(at(&u, self.arg("over_h")) - u[0], self.arg("load_ml"))
+            }
+            M::UrineVolumeExcessFractionOfLoad => {
+                let u = ledger(S::UrineL);
+                let h = self.arg("over_h");
+                let baseline = traj.samples[0].obs.urine_ml_h / 1000.0 * (h - t[0]);
+                per_load(at(&u, h) - u[0] - baseline, self.arg("load_ml"))
+            }
+            M::UrineSodiumExcessFractionOfLoad => {
+                let h = self.arg("over_h");
+                let baseline = urine_na_rate[0] * (h - t[0]);
+                (integral(&t, &urine_na_rate, t[0], h) - baseline) / self.arg("load_mmol")
             }
             M::UrineSodium => integral(&t, &urine_na_rate, self.arg("from_h"), self.arg("to_h")),
             M::UrineSodiumFractionOfLoad => {

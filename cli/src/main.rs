@@ -21,6 +21,7 @@ mod progress;
 mod report;
 mod summary;
 mod sweep_command;
+mod validate;
 
 use anyhow::Result;
 use clap::{CommandFactory, FromArgMatches};
@@ -87,6 +88,11 @@ fn dispatch(cli: Cli, style: Style) -> Result<Outcome> {
         }
         Command::Sweep(args) => sweep_command::sweep_command(args, style).map(|_| Outcome::Ok),
         Command::Check(args) => Ok(if check::check_command(args, style)? {
+            Outcome::Ok
+        } else {
+            Outcome::Failed
+        }),
+        Command::Validate(args) => Ok(if validate::validate_command(args, style)? {
             Outcome::Ok
         } else {
             Outcome::Failed

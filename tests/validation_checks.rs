@@ -47,3 +47,26 @@ fn the_model_meets_the_validation_dossier() {
         problems.join("\n")
     );
 }
+
+/// The dossier's README documents every metric and series of the
+/// vocabulary (a name the page or a check may use must be explained).
+#[test]
+fn the_readme_documents_the_whole_vocabulary() {
+    let readme = std::fs::read_to_string(
+        Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/validation/README.md"),
+    )
+    .expect("tests/validation/README.md");
+    for (_, info) in tidewater::validation::metrics::METRICS {
+        assert!(
+            readme.contains(&format!("| `{}` |", info.name)),
+            "tests/validation/README.md does not document the metric {}",
+            info.name
+        );
+    }
+    for (_, name, _) in tidewater::validation::metrics::SERIES {
+        assert!(
+            readme.contains(&format!("`{name}`")),
+            "tests/validation/README.md does not document the series {name}"
+        );
+    }
+}

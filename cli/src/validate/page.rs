@@ -94,6 +94,17 @@ fn ticks(lo: f64, hi: f64, target: usize) -> Vec<f64> {
     out
 }
 
+/// A tick below a horizontal axis at `y`, labelled with `value`.
+fn x_tick(s: &mut String, x: f64, y: f64, value: f64) {
+    let _ = write!(
+        s,
+        "<line x1=\"{x:.1}\" y1=\"{y}\" x2=\"{x:.1}\" y2=\"{}\" stroke=\"#8a929c\"/><text x=\"{x:.1}\" y=\"{}\" font-size=\"10.5\" text-anchor=\"middle\" fill=\"#5b6470\">{}</text>",
+        y + 4.0,
+        y + 16.0,
+        escape(&num(value))
+    );
+}
+
 /// The check's values on one small axis: the acceptance range as a band,
 /// the published value with its bar, the model's value.
 fn axis_svg(check: &Check, result: &CheckResult) -> String {
@@ -135,14 +146,7 @@ fn axis_svg(check: &Check, result: &CheckResult) -> String {
         "<line x1=\"{left}\" y1=\"{axis_y}\" x2=\"{right}\" y2=\"{axis_y}\" stroke=\"#8a929c\"/>"
     );
     for t in ticks(lo, hi, 6) {
-        let _ = write!(
-            s,
-            "<line x1=\"{0:.1}\" y1=\"{axis_y}\" x2=\"{0:.1}\" y2=\"{1}\" stroke=\"#8a929c\"/><text x=\"{0:.1}\" y=\"{2}\" font-size=\"10.5\" text-anchor=\"middle\" fill=\"#5b6470\">{3}</text>",
-            x(t),
-            axis_y + 4.0,
-            axis_y + 16.0,
-            escape(&num(t))
-        );
+        x_tick(&mut s, x(t), axis_y, t);
     }
     // Row labels.
     let _ = write!(
@@ -229,14 +233,7 @@ fn time_course_svg(tc: &TimeCourse, series: &[(f64, f64)], colour: &str) -> Stri
         );
     }
     for t in ticks(0.0, t_end, 6) {
-        let _ = write!(
-            s,
-            "<line x1=\"{0:.1}\" y1=\"{bottom}\" x2=\"{0:.1}\" y2=\"{1}\" stroke=\"#8a929c\"/><text x=\"{0:.1}\" y=\"{2}\" font-size=\"10.5\" text-anchor=\"middle\" fill=\"#5b6470\">{3}</text>",
-            x(t),
-            bottom + 4.0,
-            bottom + 16.0,
-            escape(&num(t))
-        );
+        x_tick(&mut s, x(t), bottom, t);
     }
     let _ = write!(
         s,

@@ -29,8 +29,9 @@ fn a_resolved_antidiuresis_brings_a_water_diuresis_and_a_fast_rise() {
     let held = run("");
     let resolved = run("at(hours(6), resolve_cause());\n");
     let (h, r) = (&held.trajectory, &resolved.trajectory);
-    // Before the change the two runs are the same.
-    assert_eq!(h.at(5.0).obs.na_mmol_l, r.at(5.0).obs.na_mmol_l);
+    // Before the change the two runs are the same (to the solver tolerance:
+    // the planned change is a break the solver steps to).
+    assert!((h.at(5.0).obs.na_mmol_l - r.at(5.0).obs.na_mmol_l).abs() < 1e-6);
     // Held antidiuresis: concentrated urine, sodium nearly flat.
     assert!(h.at(9.0).obs.urine_osm_mosm_kg > 300.0);
     assert!(h.largest_rise(24.0).0 < 4.0, "{:?}", h.largest_rise(24.0));

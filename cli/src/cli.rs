@@ -96,6 +96,12 @@ pub enum Command {
         after_help = "Examples:\n  tidewater check                              # every scenario in scenarios/\n  tidewater check scenarios/bolus.rhai --junit check.xml\n  tidewater check --update scenarios/bolus.rhai   # write or refresh its baseline\n  tidewater check --require-baseline --tolerances tol.yaml scenarios/\n\nBaselines are CSV files of key samples, scenarios/baselines/<name>.csv by\ndefault; tolerances.yaml beside them overrides the built-in tolerances.\n\nExit codes:\n  0  every scenario held (or, with --update, its baseline was written)\n  1  an expectation failed or a run left its baseline\n  2  bad input: an option, a script, a baseline or a tolerance file"
     )]
     Check(CheckArgs),
+    /// Run the validation dossier (published human data) and write its page,
+    /// index.html, with the caution, a summary and every check.
+    #[command(
+        after_help = "Example:\n  tidewater validate tests/validation --out reports/validation\n\nExit codes:\n  0  every check came out as the dossier expects\n  1  a check failed, a check marked expected_failure passed, or a check could not be evaluated\n  2  bad input: the dossier or an option"
+    )]
+    Validate(crate::validate::ValidateArgs),
     /// Print the model dump of a scenario's plan as JSON: every parameter,
     /// the calibration, the initial state and the input segments (for an
     /// independent implementation of docs/equations.md).

@@ -391,7 +391,7 @@ pub fn completions(shell: clap_complete::Shell) {
 }
 
 /// Whether `path` names a folder we may replace.
-fn check_out_dir(path: &Path) -> Result<()> {
+pub fn check_out_dir(path: &Path) -> Result<()> {
     if path.exists() && !path.is_dir() {
         anyhow::bail!("{}: exists and is not a folder", path.display());
     }

@@ -26,6 +26,7 @@ mod progress;
 mod scripts;
 mod summary;
 mod sweep_command;
+mod validate;
 
 use anyhow::Result;
 use clap::{CommandFactory, FromArgMatches};
@@ -100,6 +101,7 @@ fn dispatch(task: Task, style: Style) -> Result<Outcome> {
         Task::Sweep(opts) => sweep_command::sweep_command(opts, style).map(ok),
         Task::Merge(opts) => sweep_command::merge_command(opts).map(ok),
         Task::Check(opts) => check::check_command(opts, style).map(Outcome::from),
+        Task::Validate(args) => validate::validate_command(args, style).map(Outcome::from),
         Task::Dump { script } => commands::dump(&script).map(ok),
         Task::Completions { shell } => {
             commands::completions(shell);

@@ -91,6 +91,8 @@ pub enum Task {
     Merge(MergeOptions),
     /// `check`.
     Check(CheckOptions),
+    /// `validate`: the dossier, the output folder, threads, quiet.
+    Validate(crate::validate::ValidateArgs),
     /// `dump`: the scenario script.
     Dump {
         /// Scenario script.
@@ -145,6 +147,7 @@ impl Task {
                 spec: a.spec,
             }),
             Command::Check(a) => Task::Check(CheckOptions::from_args(a)?),
+            Command::Validate(a) => Task::Validate(a),
             Command::Dump(a) => Task::Dump { script: a.script },
             Command::Completions(a) => Task::Completions { shell: a.shell },
         })

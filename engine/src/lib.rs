@@ -71,6 +71,7 @@ pub mod suggest;
 pub mod sweep;
 pub mod trajectory;
 pub mod units;
+pub mod validation;
 
 pub use body::{Body, Species, N_STATES_BODY, S};
 pub use error::{InputError, SimulationError};

@@ -766,6 +766,7 @@ fn build_problem(
     }
     let water = crate::body::Species::Water.content(y0);
     scale[crate::body::S::UrineL as usize] = water;
+    scale_transit_pools(y0, &mut scale);
     scale[crate::body::S::BrainOsmolytes as usize] =
         scale[crate::body::S::BrainOsmolytes as usize].max(model.calibration.brain_fixed_mosm);
     let atol: Vec<f64> = scale.iter().map(|s| s * tol.atol_fraction).collect();
@@ -794,6 +795,53 @@ fn build_problem(
     // the step size the solution allows.
     problem.ode_options.max_timestep_growth = Some(MAX_STEP_GROWTH);
     Ok(problem)
+}
+
+/// Pools that empty to nothing between doses and drinks (the gut lumen,
+/// drug depots and amounts) take a scale that does not vanish with them:
+/// the body content of their species for the gut, the drug's usual dose
+/// for the drugs. Their error then stays small in absolute terms, and the
+/// solver's rounding as a pool decays to zero is not taken for a
+/// negative amount.
+/// The transit pools of [`scale_transit_pools`].
+const TRANSIT_POOLS: [crate::body::S; 10] = {
+    use crate::body::S;
+    [
+        S::GutWater,
+        S::GutNa,
+        S::GutK,
+        S::GutUrea,
+        S::GutGlucose,
+        S::LoopDiureticDepot,
+        S::LoopDiuretic,
+        S::V2Antagonist,
+        S::DesmopressinDepot,
+        S::Desmopressin,
+    ]
+};
+
+fn scale_transit_pools(y0: &[f64], scale: &mut [f64]) {
+    use crate::body::{Species, S};
+    for (pool, species) in [
+        (S::GutWater, Species::Water),
+        (S::GutNa, Species::Sodium),
+        (S::GutK, Species::Potassium),
+        (S::GutUrea, Species::Urea),
+        (S::GutGlucose, Species::Glucose),
+    ] {
+        let i = pool as usize;
+        scale[i] = scale[i].max(species.content(y0).abs().max(1.0));
+    }
+    for (pool, usual) in [
+        (S::LoopDiureticDepot, 40.0),
+        (S::LoopDiuretic, 40.0),
+        (S::V2Antagonist, 15.0),
+        (S::DesmopressinDepot, 2.0),
+        (S::Desmopressin, 2.0),
+    ] {
+        let i = pool as usize;
+        scale[i] = scale[i].max(usual);
+    }
 }
 
 /// The entries of a solver vector, without a copy.
@@ -981,7 +1029,13 @@ impl Simulation {
         }
         let mut next_sample = 0usize;
         let mut stats = SolverStats::default();
-        let scales: Vec<f64> = self.initial.y.iter().map(|v| v.abs().max(1.0)).collect();
+        let mut scales: Vec<f64> = self.initial.y.iter().map(|v| v.abs().max(1.0)).collect();
+        // A transit pool decaying to zero may dip below it by the solver's
+        // error (a few times its absolute tolerance): not a negative amount.
+        scale_transit_pools(&self.initial.y, &mut scales);
+        for i in TRANSIT_POOLS {
+            scales[i as usize] *= 100.0;
+        }
 
         // Events and the first check at t = 0.
         let mut t = 0.0;

@@ -139,3 +139,50 @@ fn design_only_prints_the_members_a_run_would_use_and_runs_nothing() {
     assert_eq!(printed, leading);
     std::fs::remove_dir_all(&dir).ok();
 }
+
+#[test]
+fn a_sweep_in_which_every_member_fails_finishes_without_a_fan_chart() {
+    // Every member refused (sodium 300 mmol/L is outside the admissible
+    // range): the result file records the failures, the summary is written,
+    // and the fan chart, which would have no finite band, is left out
+    // (the chart library used to spin forever on the NaN bands).
+    let dir = std::env::temp_dir().join(format!("tidewater-sweep-allfail-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("..");
+    let script = root
+        .join("scenarios/severe_chronic_boluses.rhai")
+        .canonicalize()
+        .unwrap();
+    let spec = dir.join("spec.yaml");
+    std::fs::write(
+        &spec,
+        format!(
+            "scenario: {}\ndesign: grid\nlevels: 1\nseed: 1\nparameters:\n  - name: patient.na\n    values: [300]\noutputs:\n  band_every_h: 4\n",
+            script.display()
+        ),
+    )
+    .unwrap();
+    let out = dir.join("r.csv");
+    let mut child = Command::new(env!("CARGO_BIN_EXE_tidewater"))
+        .args(["sweep", spec.to_str().unwrap(), "--out"])
+        .arg(&out)
+        .stdout(std::process::Stdio::null())
+        .stderr(std::process::Stdio::null())
+        .spawn()
+        .unwrap();
+    let start = std::time::Instant::now();
+    let status = loop {
+        if let Some(s) = child.try_wait().unwrap() {
+            break s;
+        }
+        if start.elapsed() > std::time::Duration::from_secs(120) {
+            child.kill().unwrap();
+            panic!("the sweep did not finish");
+        }
+        std::thread::sleep(std::time::Duration::from_millis(50));
+    };
+    assert!(status.code().is_some());
+    assert!(dir.join("summary.json").exists());
+    assert!(!dir.join("sodium_bands.svg").exists());
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -22,7 +22,13 @@ impl Output<SweepReport> for SweepCharts {
     fn files(&self, report: &SweepReport) -> Result<Vec<OutputFile>> {
         let summary = &report.summary;
         let mut files = Vec::new();
-        if !summary.band_times_h.is_empty() {
+        // No fan when no member finished (every band is NaN): there is
+        // nothing to draw, and the axes would have no finite range.
+        let any_band = summary
+            .bands
+            .iter()
+            .any(|b| b.iter().all(|v| v.is_finite()));
+        if !summary.band_times_h.is_empty() && any_band {
             files.push(self.file("sodium_bands.svg", fan_chart(summary)?));
         }
         if !summary.sensitivity.is_empty() {
@@ -43,6 +49,7 @@ fn fan_chart(summary: &Summary) -> Result<String> {
             .bands
             .iter()
             .map(|b| b[0])
+            .filter(|v| v.is_finite())
             .fold(f64::INFINITY, f64::min)
             .floor()
             - 1.0;
@@ -50,6 +57,7 @@ fn fan_chart(summary: &Summary) -> Result<String> {
             .bands
             .iter()
             .map(|b| b[4])
+            .filter(|v| v.is_finite())
             .fold(f64::NEG_INFINITY, f64::max)
             .ceil()
             + 1.0;

@@ -4,25 +4,28 @@
 use std::path::Path;
 use std::process::Command;
 
-#[test]
-fn summary_lists_every_limit_with_its_probability() {
-    let dir = std::env::temp_dir().join(format!("tidewater-sweep-summary-{}", std::process::id()));
+/// A fresh folder named for `what` holding a spec over the bundled bolus
+/// scenario: `scenario: <path>` followed by `rest`.
+fn spec_in_fresh_dir(what: &str, rest: &str) -> (std::path::PathBuf, std::path::PathBuf) {
+    let dir = std::env::temp_dir().join(format!("tidewater-{what}-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
     let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("..");
     let script = root
         .join("scenarios/severe_chronic_boluses.rhai")
         .canonicalize()
         .unwrap();
-    // Body water wide enough that some members overcorrect and some do not.
     let spec = dir.join("spec.yaml");
-    std::fs::write(
-        &spec,
-        format!(
-            "scenario: {}\ndesign: latin_hypercube\nmembers: 60\nseed: 9\nrtol: 1e-4\nparameters:\n  - name: patient.water_fraction\n    range: [0.33, 0.58]\n",
-            script.display()
-        ),
-    )
-    .unwrap();
+    std::fs::write(&spec, format!("scenario: {}\n{rest}", script.display())).unwrap();
+    (dir, spec)
+}
+
+#[test]
+fn summary_lists_every_limit_with_its_probability() {
+    // Body water wide enough that some members overcorrect and some do not.
+    let (dir, spec) = spec_in_fresh_dir(
+        "sweep-summary",
+        "design: latin_hypercube\nmembers: 60\nseed: 9\nrtol: 1e-4\nparameters:\n  - name: patient.water_fraction\n    range: [0.33, 0.58]\n",
+    );
     let out = dir.join("r.csv");
     let run = Command::new(env!("CARGO_BIN_EXE_tidewater"))
         .args(["sweep", spec.to_str().unwrap(), "--out"])
@@ -146,22 +149,10 @@ fn a_sweep_in_which_every_member_fails_finishes_without_a_fan_chart() {
     // range): the result file records the failures, the summary is written,
     // and the fan chart, which would have no finite band, is left out
     // (the chart library used to spin forever on the NaN bands).
-    let dir = std::env::temp_dir().join(format!("tidewater-sweep-allfail-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
-    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("..");
-    let script = root
-        .join("scenarios/severe_chronic_boluses.rhai")
-        .canonicalize()
-        .unwrap();
-    let spec = dir.join("spec.yaml");
-    std::fs::write(
-        &spec,
-        format!(
-            "scenario: {}\ndesign: grid\nlevels: 1\nseed: 1\nparameters:\n  - name: patient.na\n    values: [300]\noutputs:\n  band_every_h: 4\n",
-            script.display()
-        ),
-    )
-    .unwrap();
+    let (dir, spec) = spec_in_fresh_dir(
+        "sweep-allfail",
+        "design: grid\nlevels: 1\nseed: 1\nparameters:\n  - name: patient.na\n    values: [300]\noutputs:\n  band_every_h: 4\n",
+    );
     let out = dir.join("r.csv");
     let mut child = Command::new(env!("CARGO_BIN_EXE_tidewater"))
         .args(["sweep", spec.to_str().unwrap(), "--out"])

@@ -309,7 +309,7 @@ pub(super) fn register(engine: &mut Engine, st: &Shared, source: Rc<str>) {
                     &s,
                     super::super::actions::ActionSpec::ChangeParam { name, value },
                 );
-                s.borrow_mut().pending.push((a, line_of(&ctx)));
+                super::treatments::acts_now(&ctx, &s, a);
                 return Ok(());
             }
             let mut s = s.borrow_mut();

@@ -38,6 +38,16 @@ pub(super) fn new_action(ctx: &NativeCallContext, st: &Shared, spec: ActionSpec)
     v
 }
 
+/// An action that acts when it is made (a stop, a model change): inside a
+/// rule it is queued for now; at the top level it is returned to be planned.
+pub(super) fn acts_now(ctx: &NativeCallContext, st: &Shared, a: ActionValue) -> ActionValue {
+    let mut s = st.borrow_mut();
+    if let Phase::InRule { .. } = s.phase {
+        s.pending.push((a.clone(), line_of(ctx)));
+    }
+    a
+}
+
 /// `loop_diuretic(dose)` (intravenous) or `loop_diuretic(dose, route)`.
 fn loop_diuretic(
     ctx: &NativeCallContext,
@@ -187,11 +197,7 @@ pub(super) fn register(engine: &mut Engine, st: &Shared) {
         move |ctx: NativeCallContext, l: Dynamic| -> Res<ActionValue> {
             let label = arg_text(&ctx, "stop", "the label", &l)?;
             let a = new_action(&ctx, &s, ActionSpec::Stop(label));
-            let mut st = s.borrow_mut();
-            if let Phase::InRule { .. } = st.phase {
-                st.pending.push((a.clone(), line_of(&ctx)));
-            }
-            Ok(a)
+            Ok(acts_now(&ctx, &s, a))
         },
     );
     let s = st.clone();
@@ -207,11 +213,7 @@ pub(super) fn register(engine: &mut Engine, st: &Shared) {
                 );
             }
             let a = new_action(&ctx, &s, ActionSpec::ChangeParam { name, value });
-            let mut st = s.borrow_mut();
-            if let Phase::InRule { .. } = st.phase {
-                st.pending.push((a.clone(), line_of(&ctx)));
-            }
-            Ok(a)
+            Ok(acts_now(&ctx, &s, a))
         },
     );
     let s = st.clone();
@@ -219,11 +221,7 @@ pub(super) fn register(engine: &mut Engine, st: &Shared) {
         "resolve_cause",
         move |ctx: NativeCallContext| -> Res<ActionValue> {
             let a = new_action(&ctx, &s, ActionSpec::ResolveCause);
-            let mut st = s.borrow_mut();
-            if let Phase::InRule { .. } = st.phase {
-                st.pending.push((a.clone(), line_of(&ctx)));
-            }
-            Ok(a)
+            Ok(acts_now(&ctx, &s, a))
         },
     );
     let s = st.clone();
@@ -231,11 +229,7 @@ pub(super) fn register(engine: &mut Engine, st: &Shared) {
         "stop_all",
         move |ctx: NativeCallContext| -> Res<ActionValue> {
             let a = new_action(&ctx, &s, ActionSpec::StopAll);
-            let mut st = s.borrow_mut();
-            if let Phase::InRule { .. } = st.phase {
-                st.pending.push((a.clone(), line_of(&ctx)));
-            }
-            Ok(a)
+            Ok(acts_now(&ctx, &s, a))
         },
     );
     let s = st.clone();

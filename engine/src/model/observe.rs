@@ -1,0 +1,140 @@
+//! What a clinician sees: the labs, volumes, pressures and urine of one
+//! instant, derived from the state and the flows.
+
+use super::{conc, Inputs, Model};
+use crate::body::S;
+use crate::physiology::kidney;
+use crate::units;
+use serde::Serialize;
+
+/// What a clinician (or a report) sees at one instant.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Serialize)]
+pub struct Observation {
+    /// Serum sodium, mmol/L (per litre of plasma water).
+    pub na_mmol_l: f64,
+    /// Serum potassium, mmol/L.
+    pub k_mmol_l: f64,
+    /// Plasma glucose, mmol/L.
+    pub glucose_mmol_l: f64,
+    /// Plasma urea, mmol/L.
+    pub urea_mmol_l: f64,
+    /// Plasma albumin, g/L.
+    pub albumin_g_l: f64,
+    /// Calculated osmolality `2·Na + glucose + urea`, mOsm/kg.
+    pub osmolality_mosm_kg: f64,
+    /// Effective osmolality (tonicity) `2·Na + glucose`, mOsm/kg.
+    pub tonicity_mosm_kg: f64,
+    /// Tissue-cell water, L.
+    pub cells_l: f64,
+    /// Red-cell water, L.
+    pub red_cells_l: f64,
+    /// Brain-cell water, L.
+    pub brain_l: f64,
+    /// Interstitial water, L.
+    pub interstitium_l: f64,
+    /// Plasma water, L.
+    pub plasma_l: f64,
+    /// Total body water, L (the gut lumen excluded).
+    pub total_water_l: f64,
+    /// Water in the gut lumen not yet absorbed, mL.
+    pub gut_ml: f64,
+    /// Brain-cell volume relative to normal (1 = normal).
+    pub brain_volume_index: f64,
+    /// Hematocrit, fraction.
+    pub hematocrit: f64,
+    /// Blood volume, L.
+    pub blood_volume_l: f64,
+    /// Capillary pressure, mmHg.
+    pub capillary_mmhg: f64,
+    /// Interstitial pressure, mmHg.
+    pub interstitial_mmhg: f64,
+    /// Plasma colloid osmotic pressure, mmHg.
+    pub plasma_colloid_mmhg: f64,
+    /// Interstitial colloid osmotic pressure, mmHg.
+    pub interstitial_colloid_mmhg: f64,
+    /// Net capillary filtration, mL/h.
+    pub filtration_ml_h: f64,
+    /// Lymph flow, mL/h.
+    pub lymph_ml_h: f64,
+    /// Plasma vasopressin, pmol/L.
+    pub vasopressin_pmol_l: f64,
+    /// Urine flow, mL/h.
+    pub urine_ml_h: f64,
+    /// Urine osmolality, mOsm/kg.
+    pub urine_osm_mosm_kg: f64,
+    /// Urine sodium, mmol/L.
+    pub urine_na_mmol_l: f64,
+    /// Urine potassium, mmol/L.
+    pub urine_k_mmol_l: f64,
+    /// Electrolyte-free water clearance, mL/h.
+    pub efwc_ml_h: f64,
+    /// Osmolar clearance, mL/h.
+    pub osmolar_clearance_ml_h: f64,
+    /// Free-water clearance, mL/h.
+    pub free_water_clearance_ml_h: f64,
+}
+
+impl Model {
+    /// Derived labs and flows at state `y` under inputs `u`.
+    pub fn observe(&self, y: &[f64], u: &Inputs) -> Observation {
+        let f = self.fluxes(y, u);
+        let c = &self.calibration;
+        let s = |i: S| y[i as usize];
+        let v_p = s(S::PlasmaL);
+        let na = conc(s(S::NaPlasma), v_p);
+        let k = conc(s(S::KPlasma), v_p);
+        let g = conc(s(S::GlucosePlasma), v_p);
+        let urea = conc(s(S::UreaPlasma), v_p);
+        let osm = 2.0 * na + g + urea;
+        let urine_ml_h = units::l_to_ml(f.urine_l_h);
+        let (u_na, u_k) = if f.urine_l_h > 1e-12 {
+            (
+                f.urine_na_mmol_h / f.urine_l_h,
+                f.urine_k_mmol_h / f.urine_l_h,
+            )
+        } else {
+            (0.0, 0.0)
+        };
+        Observation {
+            na_mmol_l: na,
+            k_mmol_l: k,
+            glucose_mmol_l: g,
+            urea_mmol_l: urea,
+            albumin_g_l: conc(s(S::AlbuminPlasma), v_p),
+            osmolality_mosm_kg: osm,
+            tonicity_mosm_kg: 2.0 * na + g,
+            cells_l: s(S::CellsL),
+            red_cells_l: s(S::RedCellsL),
+            brain_l: s(S::BrainL),
+            interstitium_l: s(S::InterstitiumL),
+            plasma_l: v_p,
+            total_water_l: s(S::CellsL)
+                + s(S::RedCellsL)
+                + s(S::BrainL)
+                + s(S::InterstitiumL)
+                + v_p,
+            gut_ml: units::l_to_ml(s(S::GutWater)),
+            brain_volume_index: s(S::BrainL) / c.brain_normal_l,
+            hematocrit: f.hematocrit,
+            blood_volume_l: f.blood_volume_l,
+            capillary_mmhg: f.capillary_mmhg,
+            interstitial_mmhg: f.interstitial_mmhg,
+            plasma_colloid_mmhg: f.plasma_colloid_mmhg,
+            interstitial_colloid_mmhg: f.interstitial_colloid_mmhg,
+            filtration_ml_h: units::l_to_ml(f.filtration_l_h),
+            lymph_ml_h: units::l_to_ml(f.lymph_l_h),
+            vasopressin_pmol_l: f.vasopressin_pmol_l,
+            urine_ml_h,
+            urine_osm_mosm_kg: if self.switches.kidneys {
+                f.urine_osm
+            } else {
+                0.0
+            },
+            urine_na_mmol_l: u_na,
+            urine_k_mmol_l: u_k,
+            efwc_ml_h: kidney::electrolyte_free_water_clearance(urine_ml_h, u_na, u_k, na),
+            osmolar_clearance_ml_h: kidney::osmolar_clearance(urine_ml_h, f.urine_osm, osm),
+            free_water_clearance_ml_h: kidney::free_water_clearance(urine_ml_h, f.urine_osm, osm),
+        }
+    }
+}

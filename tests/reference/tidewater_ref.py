@@ -186,7 +186,8 @@ class Model:
             "desmopressin_half_life_h", "v2_antagonist_half_life_h", "v2_response_h",
             "gut_absorption_per_h", "drug_electrolyte_scale_max",
             "loop_diuretic_ec50_mg", "loop_diuretic_hill", "loop_diuretic_half_life_h",
-            "loop_diuretic_absorption_h",
+            "loop_diuretic_absorption_h", "overfill_albumin_leak_gain",
+            "overfill_leak_threshold_fraction",
         ):
             c[name] = v(name)
         for name in ("v_zero_l", "elastance_low_mmhg_l", "elastance_high_mmhg_l", "width_l"):
@@ -244,7 +245,9 @@ class Model:
         pi_p = landis_pappenheimer(conc(prot, V_p) / 10.0)
         pi_i = landis_pappenheimer(conc(A_i + c["interstitial_globulin_g"], V_i) / 10.0)
         J_v = c["kf_l_h_mmhg"] * ((P_c - P_i) - c["sigma_albumin"] * (pi_p - pi_i))
-        E_a = c["albumin_escape_per_h"] * max(A_p, 0.0)
+        f_o = 1.0 + c["overfill_albumin_leak_gain"] * ramp(
+            BV / c["blood_volume_normal_l"] - 1.0 - c["overfill_leak_threshold_fraction"], 0.01)
+        E_a = c["albumin_escape_per_h"] * f_o * max(A_p, 0.0)
         R_a = c["albumin_return_per_h"] * max(A_i, 0.0) * max(L / c["lymph0_l_h"], 0.0) ** c[
             "albumin_return_flow_exponent"]
         ps = c["small_solute_ps"]

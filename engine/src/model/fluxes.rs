@@ -156,7 +156,12 @@ impl Model {
             c.lymph_half_mmhg,
             c.lymph_scale_mmhg,
         );
-        let albumin_escape = p.albumin_escape_per_h * s(S::AlbuminPlasma).max(0.0);
+        let overfill = capillary::overfill_leak_factor(
+            blood_volume / c.blood_volume_normal_l,
+            p.overfill_leak_threshold_fraction,
+            p.overfill_albumin_leak_gain,
+        );
+        let albumin_escape = p.albumin_escape_per_h * overfill * s(S::AlbuminPlasma).max(0.0);
         // Albumin returns with lymph; the return grows less than in
         // proportion to lymph flow (lymph protein falls as flow rises).
         let albumin_return = c.albumin_return_per_h

@@ -34,6 +34,18 @@ pub fn protein_for_colloid_pressure_g_dl(pi_mmhg: f64) -> f64 {
     c
 }
 
+/// Factor on the albumin escape rate in a circulation filled beyond
+/// normal: 1 up to `threshold` of excess blood volume, then rising by
+/// `gain` per unit of further excess (smoothly, over 1 %). An overfilled
+/// circulation leaks protein: iso-oncotic colloid given on top of a normal
+/// blood volume leaves the vessels far faster than the same colloid given
+/// to replace blood loss (context-sensitive volume effect; the shedding of
+/// the endothelial glycocalyx by natriuretic peptides is the proposed
+/// mechanism).
+pub fn overfill_leak_factor(blood_volume_ratio: f64, threshold: f64, gain: f64) -> f64 {
+    1.0 + gain * crate::physiology::smooth_ramp(blood_volume_ratio - 1.0 - threshold, 0.01)
+}
+
 /// Net Starling filtration from plasma to interstitium, L/h.
 pub fn starling_filtration_l_h(
     kf_l_h_mmhg: f64,
@@ -124,6 +136,16 @@ pub fn lymph_scale_mmhg(rest_mmhg: f64, half_mmhg: f64, max_ratio: f64) -> f64 {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn overfill_leak_acts_only_beyond_its_threshold() {
+        assert_eq!(overfill_leak_factor(1.0, 0.08, 40.0), 1.0);
+        assert_eq!(overfill_leak_factor(1.05, 0.08, 40.0), 1.0);
+        // 20 % over normal: 12 % beyond the threshold, 40 x 0.12 = 4.8.
+        assert!((overfill_leak_factor(1.2, 0.08, 40.0) - 5.8).abs() < 1e-12);
+        // A depleted circulation leaks as usual.
+        assert_eq!(overfill_leak_factor(0.8, 0.08, 40.0), 1.0);
+    }
 
     #[test]
     fn landis_pappenheimer_inverse() {

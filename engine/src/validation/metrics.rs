@@ -76,6 +76,7 @@ vocabulary! {
     PlasmaVolumeChangeFractionOfLoad => "plasma_volume_change_fraction_of_load", ["at_h", "load_ml"], "1", "gain of plasma volume at at_h divided by the volume given";
     PlasmaVolumeChangeMaxFractionOfLoad => "plasma_volume_change_max_fraction_of_load", ["within_h", "load_ml"], "1", "largest gain of plasma volume within the window divided by the volume given";
     BloodVolumeChangeFractionOfLoad => "blood_volume_change_fraction_of_load", ["at_h", "load_ml"], "1", "gain of blood volume at at_h divided by the volume given";
+    PlasmaVolumeGainFractionOfLoad => "plasma_volume_gain_fraction_of_load", ["from_h", "at_h", "load_ml"], "1", "gain of plasma volume from from_h (just before the infusion) to at_h divided by the volume given (the volume effect when the infusion follows a loss)";
     CellWaterChangeFractionOfLoad => "cell_water_change_fraction_of_load", ["at_h", "load_ml"], "1", "gain of intracellular water (tissue cells, red cells, brain) at at_h divided by the volume given";
     HematocritMinChangeFraction => "hematocrit_min_change_fraction", ["within_h"], "1", "largest relative fall of haematocrit within the window (negative)";
     KChange => "k_change", ["at_h"], "mmol/L", "serum potassium at at_h minus its starting value";
@@ -453,6 +454,13 @@ impl Metric {
                 let pv = plasma_volume(traj);
                 let max = window(&pv, self.arg("within_h")).1 .0;
                 per_load(max - pv[0], self.arg("load_ml"))
+            }
+            M::PlasmaVolumeGainFractionOfLoad => {
+                let pv = plasma_volume(traj);
+                per_load(
+                    at(&pv, self.arg("at_h")) - at(&pv, self.arg("from_h")),
+                    self.arg("load_ml"),
+                )
             }
             M::BloodVolumeChangeFractionOfLoad => {
                 let bv = column(traj, |s| s.obs.blood_volume_l);

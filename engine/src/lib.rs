@@ -64,6 +64,7 @@ pub(crate) mod numeric;
 pub mod params;
 pub mod patient;
 pub mod physiology;
+pub mod plan;
 pub mod reference;
 pub mod scenario;
 pub mod simulate;
@@ -80,9 +81,8 @@ pub use limits::{Flag, LimitChoice};
 pub use model::{Inputs, Model, Observation, StartBalance, Switches, WaterIntakeSource};
 pub use params::{Params, PARAMETERS};
 pub use patient::{Patient, ResolvedPatient};
-pub use simulate::{
-    Action, Controller, Event, Plan, Route, Simulation, Snapshot, Stream, Tolerances,
-};
+pub use plan::{Action, Controller, Event, Plan, Route, Snapshot, Stream, Tolerances};
+pub use simulate::Simulation;
 pub use trajectory::{Sample, SolverStats, Trajectory};
 
 /// The caution every report carries.

@@ -4,7 +4,7 @@
 //! the model change, and stops on a negative pool.
 
 use super::problem::{
-    build_problem, host, refresh, scale_transit_pools, Eqn, LS, TRANSIT_POOLS, V,
+    build_problem, host, refresh, scale_transit_pools, Eqn, Problem, LS, TRANSIT_POOLS, V,
 };
 use super::schedule::{Schedule, EPS_H};
 use super::Simulation;
@@ -25,6 +25,49 @@ fn solver_error(t: f64, e: impl std::fmt::Display) -> SimulationError {
     }
 }
 
+/// The sample times: every `every_h` from 0, and the end of the run if it
+/// falls between two.
+fn sample_grid(end: f64, every_h: f64) -> Vec<f64> {
+    let n_grid = (end / every_h + 1e-9).floor() as usize;
+    let mut grid: Vec<f64> = (0..=n_grid).map(|k| k as f64 * every_h).collect();
+    if end - grid[grid.len() - 1] > EPS_H {
+        grid.push(end);
+    }
+    grid
+}
+
+/// The scale of every state for [`check_negative`], from the state at the
+/// start of the run.
+fn negative_scales(y0: &[f64]) -> Vec<f64> {
+    let mut scales: Vec<f64> = y0.iter().map(|v| v.abs().max(1.0)).collect();
+    // A transit pool decaying to zero may dip below it by the solver's
+    // error (a few times its absolute tolerance): not a negative amount.
+    scale_transit_pools(y0, &mut scales);
+    for i in TRANSIT_POOLS {
+        scales[i as usize] *= 100.0;
+    }
+    scales
+}
+
+/// Record a sample of state `y` at `time` under `inputs`.
+fn take(samples: &mut Vec<Sample>, model: &Model, time: f64, y: Vec<f64>, inputs: &Inputs) {
+    let obs = model.observe(&y, inputs);
+    samples.push(Sample {
+        time_h: time,
+        obs,
+        inputs: *inputs,
+        y,
+    });
+}
+
+/// Add the model evaluations of a problem's right-hand side to `stats`.
+fn add_rhs_statistics(stats: &mut SolverStats, problem: &Problem) {
+    let rs = problem.eqn.rhs().statistics();
+    stats.rhs_calls += rs.number_of_calls;
+    stats.jacobian_products += rs.number_of_jac_muls;
+    stats.jacobian_evaluations += rs.number_of_matrix_evals;
+}
+
 impl Simulation {
     /// Run the plan, consulting `controller` at every check time.
     pub fn run_with(&self, controller: &mut dyn Controller) -> Result<Trajectory, SimulationError> {
@@ -36,22 +79,10 @@ impl Simulation {
         let mut model = self.model.clone();
         let mut schedule = self.initial_schedule();
         let mut samples: Vec<Sample> = Vec::new();
-        let n_grid = (end / plan.sample_every_h + 1e-9).floor() as usize;
-        let mut grid: Vec<f64> = (0..=n_grid)
-            .map(|k| k as f64 * plan.sample_every_h)
-            .collect();
-        if end - grid[grid.len() - 1] > EPS_H {
-            grid.push(end);
-        }
+        let grid = sample_grid(end, plan.sample_every_h);
         let mut next_sample = 0usize;
         let mut stats = SolverStats::default();
-        let mut scales: Vec<f64> = self.initial.y.iter().map(|v| v.abs().max(1.0)).collect();
-        // A transit pool decaying to zero may dip below it by the solver's
-        // error (a few times its absolute tolerance): not a negative amount.
-        scale_transit_pools(&self.initial.y, &mut scales);
-        for i in TRANSIT_POOLS {
-            scales[i as usize] *= 100.0;
-        }
+        let scales = negative_scales(&self.initial.y);
 
         // Events and the first check at t = 0.
         let mut t = 0.0;
@@ -71,16 +102,6 @@ impl Simulation {
             .set_params(&V::from_vec(inputs.to_vec(), ctx));
         refresh(&problem, &mut state);
 
-        let take =
-            |samples: &mut Vec<Sample>, model: &Model, time: f64, y: Vec<f64>, inputs: &Inputs| {
-                let obs = model.observe(&y, inputs);
-                samples.push(Sample {
-                    time_h: time,
-                    obs,
-                    inputs: *inputs,
-                    y,
-                });
-            };
         take(&mut samples, &model, 0.0, y.clone(), &inputs);
         next_sample += 1;
 
@@ -199,10 +220,7 @@ impl Simulation {
                     let st = state.as_ref();
                     (st.t, host(st.y).to_vec())
                 };
-                let rs = problem.eqn.rhs().statistics();
-                stats.rhs_calls += rs.number_of_calls;
-                stats.jacobian_products += rs.number_of_jac_muls;
-                stats.jacobian_evaluations += rs.number_of_matrix_evals;
+                add_rhs_statistics(&mut stats, &problem);
                 problem = build_problem(model.clone(), &self.initial.y, &y_now, &plan.tolerances)?;
                 problem_model = model.clone();
                 state = problem
@@ -216,10 +234,7 @@ impl Simulation {
                 .set_params(&V::from_vec(inputs.to_vec(), ctx));
             refresh(&problem, &mut state);
         }
-        let rs = problem.eqn.rhs().statistics();
-        stats.rhs_calls += rs.number_of_calls;
-        stats.jacobian_products += rs.number_of_jac_muls;
-        stats.jacobian_evaluations += rs.number_of_matrix_evals;
+        add_rhs_statistics(&mut stats, &problem);
         Ok(Trajectory::from_samples(
             samples,
             plan.limits.clone(),

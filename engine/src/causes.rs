@@ -5,7 +5,7 @@
 use crate::error::InputError;
 use crate::params::Params;
 use crate::patient::ResolvedPatient;
-use crate::simulate::Stream;
+use crate::plan::Stream;
 use serde::Serialize;
 
 /// What keeps the patient's sodium where it is.

@@ -7,7 +7,8 @@
 use crate::body::{N_STATES, STATE_NAMES};
 use crate::model::{Calibration, Inputs, Switches};
 use crate::params::PARAMETERS;
-use crate::simulate::{Simulation, Tolerances};
+use crate::plan::Tolerances;
+use crate::simulate::Simulation;
 use serde::Serialize;
 use std::collections::BTreeMap;
 

@@ -19,9 +19,12 @@
 //! * A [`Plan`] holds the patient, the parameters, planned [`Event`]s
 //!   (start or stop a [`Stream`]: an infusion, a drink, a loss), the check
 //!   interval for a [`Controller`] (a protocol's rules), sampling and the
-//!   guideline limits.
-//! * [`Simulation`] integrates the model over the plan with an implicit
-//!   BDF method (diffsol), stopping exactly at every input change and check.
+//!   guideline limits. These words of a plan live in [`plan`]; nothing
+//!   there integrates.
+//! * [`Simulation`] (in [`simulate`], the solver driver) integrates the
+//!   model over the plan with an implicit BDF method (diffsol), stopping
+//!   exactly at every input change and check. The plan's types are
+//!   re-exported from [`simulate`] too.
 //! * The result is a [`Trajectory`]: samples with derived labs
 //!   ([`Observation`]), sodium changes over trailing 24 h and 48 h, guideline
 //!   [`Flag`]s and a mass-balance ledger per species.
@@ -64,6 +67,7 @@ pub(crate) mod numeric;
 pub mod params;
 pub mod patient;
 pub mod physiology;
+pub mod plan;
 pub mod reference;
 pub mod scenario;
 pub mod simulate;
@@ -80,9 +84,8 @@ pub use limits::{Flag, LimitChoice};
 pub use model::{Inputs, Model, Observation, StartBalance, Switches, WaterIntakeSource};
 pub use params::{Params, PARAMETERS};
 pub use patient::{Patient, ResolvedPatient};
-pub use simulate::{
-    Action, Controller, Event, Plan, Route, Simulation, Snapshot, Stream, Tolerances,
-};
+pub use plan::{Action, Controller, Event, Plan, Route, Snapshot, Stream, Tolerances};
+pub use simulate::Simulation;
 pub use trajectory::{Sample, SolverStats, Trajectory};
 
 /// The caution every report carries.

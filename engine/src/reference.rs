@@ -6,7 +6,7 @@
 
 use crate::fluids::FluidLibrary;
 use crate::patient::Patient;
-use crate::simulate::{Plan, Stream};
+use crate::plan::{Plan, Stream};
 
 /// The benchmark plan (see the module docs).
 pub fn benchmark_plan() -> Plan {

@@ -5,7 +5,7 @@ use super::units::{Amount, Rate, Volume};
 use crate::fluids::Fluid;
 use crate::model::Inputs;
 use crate::params::Params;
-use crate::simulate::{Action, Route, Stream};
+use crate::plan::{Action, Route, Stream};
 use crate::units::UREA_G_PER_MOL;
 use std::fmt;
 

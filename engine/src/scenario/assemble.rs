@@ -11,7 +11,8 @@ use super::units;
 use super::words::{RuleDef, Shared};
 use crate::error::{InputError, SimulationError};
 use crate::numeric::gcd;
-use crate::simulate::{Plan, Simulation};
+use crate::plan::Plan;
+use crate::simulate::Simulation;
 use std::path::Path;
 
 /// A script's top level, assembled.

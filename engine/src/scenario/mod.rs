@@ -65,7 +65,8 @@ pub use sandbox::{MAX_CALL_LEVELS, MAX_OPERATIONS, MAX_WALL_TIME};
 pub use words::{usage, ActionValue, WORDS};
 
 use crate::error::SimulationError;
-use crate::simulate::{Plan, Simulation};
+use crate::plan::Plan;
+use crate::simulate::Simulation;
 use crate::trajectory::Trajectory;
 use assemble::Assembled;
 use rhai::{Engine, AST};

@@ -5,7 +5,7 @@ use super::actions::BuildContext;
 use super::error::ScenarioError;
 use super::words::{Phase, RuleDef, Shared};
 use crate::model::Observation;
-use crate::simulate::{Action, Controller, Snapshot};
+use crate::plan::{Action, Controller, Snapshot};
 use crate::units::{glucose_mmol_l_to_mg_dl, urea_mmol_l_to_bun_mg_dl};
 use rhai::{Dynamic, Engine, AST};
 use std::cell::RefCell;

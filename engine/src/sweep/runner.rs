@@ -75,7 +75,7 @@ pub fn set_patient_field(
 /// Apply sweep overrides to a plan: `patient.<field>` to the patient,
 /// other names as parameter overrides.
 pub fn apply_overrides(
-    plan: &mut crate::simulate::Plan,
+    plan: &mut crate::plan::Plan,
     overrides: &[(String, f64)],
 ) -> Result<(), String> {
     for (name, value) in overrides {
@@ -140,7 +140,7 @@ impl MemberRunner for ScenarioRunner {
 #[derive(Debug, Clone)]
 pub struct PlanRunner {
     /// The base plan.
-    pub base: crate::simulate::Plan,
+    pub base: crate::plan::Plan,
 }
 
 impl MemberRunner for PlanRunner {

@@ -215,7 +215,7 @@ pub struct SweepSpec {
     #[serde(default = "default_balance_share")]
     pub check_balance_share: f64,
     /// Relative tolerance of the solver for every member (default: the
-    /// engine's, [`crate::simulate::Tolerances::default`]). A sweep over
+    /// engine's, [`crate::plan::Tolerances::default`]). A sweep over
     /// uncertain parameters rarely needs sodium to 1e-6: a looser tolerance
     /// buys members per second.
     #[serde(default)]

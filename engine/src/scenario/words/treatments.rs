@@ -8,7 +8,7 @@ use super::args::{
 };
 use super::state::{ActionValue, Phase, Shared};
 use crate::fluids::FluidKind;
-use crate::simulate::Route;
+use crate::plan::Route;
 use rhai::{Dynamic, Engine, NativeCallContext};
 
 /// A new action value made on the current line; one made inside a rule is

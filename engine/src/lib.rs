@@ -29,6 +29,23 @@
 //!   ([`Observation`]), sodium changes over trailing 24 h and 48 h, guideline
 //!   [`Flag`]s and a mass-balance ledger per species.
 //!
+//! ## Rooms
+//!
+//! | module | what it holds |
+//! |---|---|
+//! | [`params`] | every physiological parameter: name, unit, default, range, source |
+//! | [`physiology`] | one file of pure functions per mechanism: cell membranes, capillaries and lymph, the kidney, osmoregulation (vasopressin, thirst), blood volume, the gut, drugs, glucose, potassium, brain adaptation |
+//! | [`model`] | the wiring: inputs, the resting body and its calibration, the steady start, fluxes, the right-hand side, observations, changes during a run |
+//! | [`body`] | the state layout and the mass-balance ledger |
+//! | [`patient`], [`causes`], [`fluids`] | what the user describes: the patient, the cause of the disorder, the fluid library |
+//! | [`plan`] | the words of a plan: streams, actions, events, controllers |
+//! | [`simulate`] | the solver driver: schedule, diffsol problem, the run loop |
+//! | [`trajectory`], [`limits`] | results, derived series and guideline flags |
+//! | [`scenario`] | Rhai scripts to plans, rules and expectations |
+//! | [`sweep`] | sweep specs, designs, parallel runs, result files, summaries |
+//! | [`validation`] | the dossier of published human data and its metrics |
+//! | [`dump`], [`reference`](mod@reference), [`formulas`] | the model dump for independent implementations, the reference case, bedside formulas |
+//!
 //! ```
 //! use tidewater::{FluidLibrary, Patient, Plan, Simulation, Stream};
 //!

@@ -11,6 +11,44 @@ use crate::params::Params;
 use crate::units;
 use serde::{Deserialize, Serialize};
 
+/// Every field of a patient description, as scripts (`patient(#{ ... })`),
+/// patient files and sweep specs (`patient.<field>`) name them.
+pub const PATIENT_FIELDS: &[&str] = &[
+    "sex",
+    "age_years",
+    "weight_kg",
+    "height_cm",
+    "water_fraction",
+    "water_method",
+    "na",
+    "k",
+    "glucose_mmol_l",
+    "glucose_mg_dl",
+    "urea_mmol_l",
+    "bun_mg_dl",
+    "albumin_g_l",
+    "hematocrit",
+    "onset",
+    "cause",
+];
+
+/// The fields of [`PATIENT_FIELDS`] that hold a number (a sweep can vary
+/// them).
+pub const NUMERIC_PATIENT_FIELDS: &[&str] = &[
+    "age_years",
+    "weight_kg",
+    "height_cm",
+    "water_fraction",
+    "na",
+    "k",
+    "glucose_mmol_l",
+    "glucose_mg_dl",
+    "urea_mmol_l",
+    "bun_mg_dl",
+    "albumin_g_l",
+    "hematocrit",
+];
+
 /// A patient as described by the user. Optional fields fall back to the
 /// defaults of [`Params`] (normal labs) or of the sex.
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
@@ -334,6 +372,17 @@ pub fn patient_from_yaml(text: &str, file: &str) -> Result<Patient, InputError> 
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn every_numeric_field_is_a_field_a_sweep_can_set() {
+        for f in NUMERIC_PATIENT_FIELDS {
+            assert!(PATIENT_FIELDS.contains(f), "{f}");
+            let mut p = Patient::healthy("male", 40.0, 70.0);
+            crate::sweep::set_patient_field(&mut p, f, 1.0).unwrap_or_else(|e| panic!("{e}"));
+        }
+        let mut p = Patient::healthy("male", 40.0, 70.0);
+        assert!(crate::sweep::set_patient_field(&mut p, "sex", 1.0).is_err());
+    }
 
     fn resolve(p: Patient) -> Result<ResolvedPatient, InputError> {
         p.resolve(&Params::default())

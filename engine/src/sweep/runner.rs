@@ -46,20 +46,7 @@ pub fn set_patient_field(
         "albumin_g_l" => &mut patient.albumin_g_l,
         "hematocrit" => &mut patient.hematocrit,
         other => {
-            let known = [
-                "age_years",
-                "weight_kg",
-                "height_cm",
-                "water_fraction",
-                "na",
-                "k",
-                "glucose_mmol_l",
-                "glucose_mg_dl",
-                "urea_mmol_l",
-                "bun_mg_dl",
-                "albumin_g_l",
-                "hematocrit",
-            ];
+            let known = crate::patient::NUMERIC_PATIENT_FIELDS.iter().copied();
             return Err(format!(
                 "patient.{other} is not a numeric patient field{}",
                 crate::suggest::closest(other, known)

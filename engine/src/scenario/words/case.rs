@@ -13,26 +13,6 @@ use rhai::{Dynamic, Engine, EvalAltResult, Map, NativeCallContext};
 use std::path::{Component, Path, PathBuf};
 use std::rc::Rc;
 
-/// The fields of `patient(#{ ... })`.
-const PATIENT_FIELDS: &[&str] = &[
-    "sex",
-    "age_years",
-    "weight_kg",
-    "height_cm",
-    "water_fraction",
-    "water_method",
-    "na",
-    "k",
-    "glucose_mmol_l",
-    "glucose_mg_dl",
-    "urea_mmol_l",
-    "bun_mg_dl",
-    "albumin_g_l",
-    "hematocrit",
-    "onset",
-    "cause",
-];
-
 /// Line and column of `key:` in `source`, searching from `from_line` on.
 fn find_key_line(source: &str, from_line: usize, key: &str) -> Option<(usize, usize)> {
     for (i, text) in source.lines().enumerate().skip(from_line.saturating_sub(1)) {
@@ -109,14 +89,15 @@ fn patient_from_map(ctx: &NativeCallContext, map: &Map, source: &str) -> Res<Pat
             "onset" => p.onset = Some(text()?),
             "cause" => p.cause = Some(text()?),
             other => {
-                let hint = crate::suggest::closest(other, PATIENT_FIELDS.iter().copied())
-                    .map(|s| format!(" (did you mean `{s}`?)"))
-                    .unwrap_or_default();
+                let hint =
+                    crate::suggest::closest(other, crate::patient::PATIENT_FIELDS.iter().copied())
+                        .map(|s| format!(" (did you mean `{s}`?)"))
+                        .unwrap_or_default();
                 return Err(err_at(
                     other,
                     format!(
                         "patient: unknown field `{other}`{hint}; the fields are {}",
-                        PATIENT_FIELDS.join(", ")
+                        crate::patient::PATIENT_FIELDS.join(", ")
                     ),
                 ));
             }

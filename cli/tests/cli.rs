@@ -176,11 +176,38 @@ fn rerun_replaces_the_folder_whole() {
     let root = tempfile::tempdir().unwrap();
     let dir = root.path().join("demo");
     std::fs::create_dir(&dir).unwrap();
-    std::fs::write(dir.join("stale.txt"), "from an older run").unwrap();
+    // A chart an older run drew and this one does not is replaced with the
+    // folder (a folder holding anything Tidewater does not write is
+    // refused: see the test below).
+    std::fs::write(dir.join("stale_chart.svg"), "from an older run").unwrap();
     assert_eq!(run_demo(&dir).status.code(), Some(0));
-    assert!(!dir.join("stale.txt").exists());
+    assert!(!dir.join("stale_chart.svg").exists());
     assert!(dir.join("samples.csv").exists());
     assert_eq!(std::fs::read_dir(root.path()).unwrap().count(), 1);
+}
+
+#[test]
+fn a_folder_holding_other_files_is_never_replaced() {
+    // `run --out DIR` replaces DIR as a whole: a folder holding a script,
+    // notes or a subfolder is refused (exit 2), and every file stays.
+    let dir = std::env::temp_dir().join(format!("tidewater-cli-foreign-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(dir.join("data")).unwrap();
+    std::fs::write(dir.join("my.rhai"), "// mine\n").unwrap();
+    let out = run_demo(&dir);
+    assert_eq!(out.status.code(), Some(2), "{}", text(&out.stderr));
+    let err = text(&out.stderr);
+    assert!(
+        err.contains("did not write") && err.contains("my.rhai"),
+        "{err}"
+    );
+    assert_eq!(
+        std::fs::read_to_string(dir.join("my.rhai")).unwrap(),
+        "// mine\n"
+    );
+    assert!(dir.join("data").is_dir());
+    assert!(!dir.join("report.html").exists());
+    std::fs::remove_dir_all(&dir).ok();
 }
 
 #[test]

@@ -145,6 +145,44 @@ fn write_whole(path: &Path, bytes: &[u8]) -> Result<()> {
 /// Fill a fresh folder with `fill` and move it to `dest` (replacing an
 /// existing folder there). Nothing appears at `dest` unless `fill`
 /// succeeds.
+/// A folder about to be replaced as a whole may hold only what a
+/// Tidewater output holds (the files just staged, or the files of an
+/// earlier report or page: `report.html`, `index.html`, `samples.csv`,
+/// `summary.json`, SVG charts). Anything else (a script, a subfolder, a
+/// user's notes) would be deleted with it: refuse, naming it.
+fn refuse_foreign_files(dest: &Path, staged: &Path) -> Result<()> {
+    let ours = |name: &str| {
+        staged.join(name).is_file()
+            || matches!(
+                name,
+                "report.html" | "index.html" | "samples.csv" | "summary.json"
+            )
+            || name.ends_with(".svg")
+    };
+    let entries = std::fs::read_dir(dest).with_context(|| format!("reading {}", dest.display()))?;
+    let mut foreign = Vec::new();
+    for entry in entries {
+        let entry = entry.with_context(|| format!("reading {}", dest.display()))?;
+        let name = entry.file_name().to_string_lossy().to_string();
+        let is_file = entry.file_type().map(|t| t.is_file()).unwrap_or(false);
+        if !is_file || !ours(&name) {
+            foreign.push(name);
+        }
+    }
+    if foreign.is_empty() {
+        return Ok(());
+    }
+    foreign.sort();
+    anyhow::bail!(
+        "{}: the folder holds {} entr{} that Tidewater did not write ({}{}), and writing the output replaces the folder as a whole; choose a new or empty folder, or move them",
+        dest.display(),
+        foreign.len(),
+        if foreign.len() == 1 { "y" } else { "ies" },
+        foreign.iter().take(3).cloned().collect::<Vec<_>>().join(", "),
+        if foreign.len() > 3 { ", ..." } else { "" }
+    )
+}
+
 fn write_atomically(dest: &Path, fill: impl FnOnce(&Path) -> Result<()>) -> Result<PathBuf> {
     let name = dest
         .file_name()
@@ -164,6 +202,9 @@ fn write_atomically(dest: &Path, fill: impl FnOnce(&Path) -> Result<()>) -> Resu
         .tempdir_in(&parent)
         .with_context(|| format!("creating a staging folder in {}", parent.display()))?;
     fill(staging.path())?;
+    if dest.exists() {
+        refuse_foreign_files(dest, staging.path())?;
+    }
     // Move an existing result aside, put the new one in place, then drop
     // the old one; restore it if the swap fails.
     let old = if dest.exists() {
@@ -211,10 +252,29 @@ mod tests {
         let root = tempfile::tempdir().unwrap();
         let dest = root.path().join("out");
         std::fs::create_dir(&dest).unwrap();
-        std::fs::write(dest.join("stale.txt"), "old").unwrap();
+        std::fs::write(dest.join("stale.svg"), "old").unwrap();
         write_atomically(&dest, |dir| write_file(&dir.join("new.txt"), b"new")).unwrap();
         assert!(dest.join("new.txt").exists());
-        assert!(!dest.join("stale.txt").exists());
+        assert!(!dest.join("stale.svg").exists());
+        assert_eq!(std::fs::read_dir(root.path()).unwrap().count(), 1);
+    }
+
+    #[test]
+    fn a_folder_with_foreign_files_is_refused_and_kept() {
+        let root = tempfile::tempdir().unwrap();
+        let dest = root.path().join("out");
+        std::fs::create_dir(&dest).unwrap();
+        std::fs::write(dest.join("notes.txt"), "mine").unwrap();
+        let err = write_atomically(&dest, |dir| write_file(&dir.join("new.txt"), b"new"))
+            .unwrap_err()
+            .to_string();
+        assert!(err.contains("notes.txt"), "{err}");
+        assert_eq!(
+            std::fs::read_to_string(dest.join("notes.txt")).unwrap(),
+            "mine"
+        );
+        assert!(!dest.join("new.txt").exists());
+        // Nothing staged is left behind.
         assert_eq!(std::fs::read_dir(root.path()).unwrap().count(), 1);
     }
 
@@ -246,12 +306,15 @@ mod tests {
             assert_eq!(std::fs::read_to_string(&paths[0]).unwrap(), "hello sea\n");
             assert_eq!(std::fs::read_to_string(&paths[1]).unwrap(), "bye sea\n");
         }
-        // Beside: other files stay; Folder: the folder is replaced whole.
+        // Beside: other files stay; Folder: the folder is replaced whole,
+        // and refused while it holds a file no output writes.
         std::fs::write(dir.join("results.csv"), "kept").unwrap();
         write("tide", &[&Greeting], &dir, Placement::Beside).unwrap();
         assert!(dir.join("results.csv").exists());
+        assert!(write("tide", &[&Greeting], &dir, Placement::Folder).is_err());
+        assert!(dir.join("results.csv").exists());
+        std::fs::remove_file(dir.join("results.csv")).unwrap();
         write("tide", &[&Greeting], &dir, Placement::Folder).unwrap();
-        assert!(!dir.join("results.csv").exists());
         // A failing output writes nothing and names its format.
         let err = write(
             "",

@@ -134,6 +134,26 @@ pub enum SpecProblem {
     /// A negative (or not finite) output time or band interval.
     #[error("outputs: times must be >= 0")]
     OutputTime,
+    /// An output time beyond the longest possible run.
+    #[error("outputs: {time_h:?} h is beyond the longest run (60 days, 1440 h)")]
+    OutputTimeBeyondRun {
+        /// The time given, h.
+        time_h: f64,
+    },
+    /// A band interval that is not 0 (no bands) or 1 min to 1440 h.
+    #[error("outputs.band_every_h: {value:?} h; give 0 (no bands) or an interval from 1 min (0.0167 h) to 1440 h")]
+    BandInterval {
+        /// The interval given, h.
+        value: f64,
+    },
+    /// The same parameter listed twice.
+    #[error("parameter {name} is listed twice (also as parameters[{first}])")]
+    DuplicateParameter {
+        /// The name listed twice.
+        name: String,
+        /// Index of its first listing.
+        first: usize,
+    },
 }
 
 /// Which condition a distribution fails.

@@ -6,6 +6,9 @@ use super::error::{DistributionProblem, SpecProblem, SweepError};
 use super::random::{normal_cdf, normal_quantile};
 use serde::{Deserialize, Serialize};
 
+/// The longest run a plan allows (60 days), h.
+const LONGEST_RUN_H: f64 = 24.0 * 60.0;
+
 /// How one parameter varies across members.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(tag = "kind", rename_all = "snake_case", deny_unknown_fields)]
@@ -249,6 +252,15 @@ impl SweepSpec {
         }
         for (i, p) in self.parameters.iter().enumerate() {
             let at = |key: &str| format!("parameters[{i}]{key}");
+            if let Some(first) = self.parameters[..i].iter().position(|q| q.name == p.name) {
+                return fail(
+                    at(".name"),
+                    SpecProblem::DuplicateParameter {
+                        name: p.name.clone(),
+                        first,
+                    },
+                );
+            }
             let name = || p.name.clone();
             let given = [
                 p.values.is_some(),
@@ -328,8 +340,15 @@ impl SweepSpec {
         if !(0.0..=1.0).contains(&self.check_balance_share) {
             return fail("check_balance_share".into(), SpecProblem::BalanceShare);
         }
-        if self.outputs.band_every_h < 0.0 {
+        let band = self.outputs.band_every_h;
+        if band < 0.0 {
             return fail("outputs.band_every_h".into(), SpecProblem::OutputTime);
+        }
+        if !(band == 0.0 || (band.is_finite() && (1.0 / 60.0..=LONGEST_RUN_H).contains(&band))) {
+            return fail(
+                "outputs.band_every_h".into(),
+                SpecProblem::BandInterval { value: band },
+            );
         }
         if let Some(k) = self
             .outputs
@@ -338,6 +357,14 @@ impl SweepSpec {
             .position(|t| *t < 0.0 || !t.is_finite())
         {
             return fail(format!("outputs.na_at_h[{k}]"), SpecProblem::OutputTime);
+        }
+        if let Some(k) = self.outputs.na_at_h.iter().position(|t| *t > LONGEST_RUN_H) {
+            return fail(
+                format!("outputs.na_at_h[{k}]"),
+                SpecProblem::OutputTimeBeyondRun {
+                    time_h: self.outputs.na_at_h[k],
+                },
+            );
         }
         Ok(())
     }
@@ -386,9 +413,29 @@ pub(super) mod tests {
                 "x.yaml: parameter natriuresis_gain: values must be finite and not empty",
             ),
             (
-                format!("{head}parameters:\n{ok}{ok}  - name: gfr_ml_min\n    distribution: {{ kind: normal, mean: 90, sd: 0 }}\n"),
+                format!("{head}parameters:\n{ok}  - name: natriuresis_gain\n    range: [5, 20]\n  - name: kf_ml_min_mmhg\n    distribution: {{ kind: normal, mean: 90, sd: 0 }}\n"),
                 "parameters[2].distribution",
-                "x.yaml: parameter gfr_ml_min: normal needs sd > 0",
+                "x.yaml: parameter kf_ml_min_mmhg: normal needs sd > 0",
+            ),
+            (
+                format!("{head}parameters:\n{ok}  - name: natriuresis_gain\n    range: [5, 20]\n{ok}"),
+                "parameters[2].name",
+                "x.yaml: parameter gfr_ml_min is listed twice (also as parameters[0])",
+            ),
+            (
+                format!("{head}outputs:\n  band_every_h: .inf\nparameters:\n{ok}"),
+                "outputs.band_every_h",
+                "x.yaml: outputs.band_every_h: inf h; give 0 (no bands) or an interval from 1 min (0.0167 h) to 1440 h",
+            ),
+            (
+                format!("{head}outputs:\n  band_every_h: 1e-300\nparameters:\n{ok}"),
+                "outputs.band_every_h",
+                "x.yaml: outputs.band_every_h: 1e-300 h; give 0 (no bands) or an interval from 1 min (0.0167 h) to 1440 h",
+            ),
+            (
+                format!("{head}outputs:\n  na_at_h: [6, 1e300]\nparameters:\n{ok}"),
+                "outputs.na_at_h[1]",
+                "x.yaml: outputs: 1e300 h is beyond the longest run (60 days, 1440 h)",
             ),
             (
                 format!("{head}outputs:\n  na_at_h: [6, -1]\nparameters:\n{ok}"),

@@ -76,6 +76,10 @@ pub enum S {
     LoopDiureticDepot,
     /// Loop diuretic in the body, mg.
     LoopDiuretic,
+    /// Loop diuretic at its site of action (the lumen of the thick
+    /// ascending limb, reached by tubular secretion), as mg in the body
+    /// that would give it at equilibrium.
+    LoopDiureticEffectSite,
     /// Cumulative water in, L.
     InWater,
     /// Cumulative sodium in, mmol.
@@ -144,6 +148,7 @@ pub const STATE_NAMES: [&str; N_STATES] = [
     "gut glucose",
     "loop diuretic depot",
     "loop diuretic",
+    "loop diuretic at its site of action",
     "cumulative water in",
     "cumulative sodium in",
     "cumulative potassium in",

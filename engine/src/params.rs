@@ -170,6 +170,7 @@ parameters! {
     loop_diuretic_ec50_mg: 10.0, [0.5, 500.0], "mg", "Loop diuretic (furosemide-equivalent) in the body giving half its full effect", "calibrated: 40 mg IV acts at once, peaks in the first half hour and has faded by ~3 h; common practice: IV onset ~5 min, peak ~30 min, duration ~2-3 h (M)";
     loop_diuretic_hill: 2.0, [0.5, 6.0], "1", "Hill exponent of loop-diuretic effect on the amount in the body (a steep, saturating dose-response)", "(M)";
     loop_diuretic_half_life_h: 1.0, [0.2, 12.0], "h", "Elimination half-life of a loop diuretic (furosemide, normal kidneys)", "common practice: furosemide ~1-2 h with normal renal function (M)";
+    loop_diuretic_effect_delay_h: 0.25, [0.01, 4.0], "h", "Time constant with which a loop diuretic reaches its site of action (secreted into the tubule) from the blood", "calibrated (M): an IV dose's diuresis peaks about half an hour after the injection (common practice, from memory); the validation check of the peak time rests on the same recalled fact";
     loop_diuretic_bioavailability_oral: 0.5, [0.05, 1.0], "1", "Share of an oral loop-diuretic dose absorbed", "common practice: furosemide ~50 %, 10-100 % between people (M)";
     loop_diuretic_absorption_h: 1.0, [0.1, 12.0], "h", "Absorption time constant of an oral loop diuretic", "common practice: oral onset 30-60 min, peak 1-2 h, duration 6-8 h (M)";
     thiazide_min_urine_osm: 250.0, [50.0, 500.0], "mOsm/kg", "Most dilute urine at full thiazide effect (impaired diluting segment)", "(M)";

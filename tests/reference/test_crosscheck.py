@@ -184,5 +184,5 @@ def test_reference_balances_its_own_ledger(plan):
     for j, (species, idx) in enumerate(pools.items()):
         content0 = sum(y0[i] for i in idx)
         content1 = sum(y1[i] for i in idx)
-        expect = content0 + (y1[32 + j] - y0[32 + j]) - (y1[38 + j] - y0[38 + j])
+        expect = content0 + (y1[33 + j] - y0[33 + j]) - (y1[39 + j] - y0[39 + j])
         assert abs(content1 - expect) <= 1e-8 * abs(content0), (species, content1, expect)

@@ -35,7 +35,7 @@ import numpy as np
 from scipy.integrate import solve_ivp
 
 FORMAT = "tidewater-model-dump/1"
-N_STATES = 45
+N_STATES = 46
 LN2 = math.log(2.0)
 
 # Names the equations page writes without a `params.`/`calibration.` prefix
@@ -186,7 +186,8 @@ class Model:
             "desmopressin_half_life_h", "v2_antagonist_half_life_h", "v2_response_h",
             "gut_absorption_per_h", "drug_electrolyte_scale_max",
             "loop_diuretic_ec50_mg", "loop_diuretic_hill", "loop_diuretic_half_life_h",
-            "loop_diuretic_absorption_h", "overfill_albumin_leak_gain",
+            "loop_diuretic_absorption_h", "loop_diuretic_effect_delay_h",
+            "overfill_albumin_leak_gain",
             "overfill_leak_threshold_fraction",
         ):
             c[name] = v(name)
@@ -208,7 +209,7 @@ class Model:
         c = self.c
         (V_c, V_r, V_b, V_i, V_p, Na_p, Na_i, K_p, K_i, K_c, G_p, G_i,
          U_p, U_i, U_c, U_r, A_p, A_i, Gl_p, X_r, O_b, D_dep, D, T, R,
-         W_g, Na_g, K_g, U_g, G_g, F_dep, F) = y[:32]
+         W_g, Na_g, K_g, U_g, G_g, F_dep, F, F_e) = y[:33]
         na_p, na_i = conc(Na_p, V_p), conc(Na_i, V_i)
         k_p, k_i = conc(K_p, V_p), conc(K_i, V_i)
         g_p, g_i = conc(G_p, V_p), conc(G_i, V_i)
@@ -280,7 +281,7 @@ class Model:
         AVP = floor + softplus(S - floor, 0.2) if floor > 0.0 else S
         V2_star = (AVP + c["desmopressin_avp_equiv_pmol_l_per_ug"] * max(D, 0.0)) / (
             1.0 + max(T, 0.0) / c["v2_antagonist_ki_mg"])
-        a_F = (max(F, 0.0) / c["loop_diuretic_ec50_mg"]) ** c["loop_diuretic_hill"]
+        a_F = (max(F_e, 0.0) / c["loop_diuretic_ec50_mg"]) ** c["loop_diuretic_hill"]
         e_L = a_F / (1.0 + a_F)
         e_T = min(max(u["thiazide_effect"], 0.0), 1.0)
         Umin = c["urine_osm_min"] + e_T * max(c["thiazide_min_urine_osm"] - c["urine_osm_min"], 0.0)
@@ -312,7 +313,7 @@ class Model:
         kg = c["gut_absorption_per_h"]
         a_W, a_Na, a_K, a_U, a_G = (kg * max(x_, 0.0) for x_ in (W_g, Na_g, K_g, U_g, G_g))
         return dict(
-            W_g=W_g, F_dep=F_dep, F=F, a_W=a_W, a_Na=a_Na, a_K=a_K, a_U=a_U, a_G=a_G,
+            W_g=W_g, F_dep=F_dep, F=F, F_e=F_e, a_W=a_W, a_Na=a_Na, a_K=a_K, a_U=a_U, a_G=a_G,
             V_c=V_c, V_r=V_r, V_b=V_b, V_i=V_i, V_p=V_p, na_p=na_p, k_p=k_p, g_p=g_p, u_p=u_p,
             A_p=A_p, A_i=A_i, Gl_p=Gl_p, X_r=X_r, O_b=O_b, D_dep=D_dep, D=D, T=T, R=R,
             Na_p=Na_p, K_p=K_p, G_p=G_p, U_p=U_p, U_r=U_r,
@@ -374,20 +375,21 @@ class Model:
         dy[30] = u["loop_diuretic_depot_mg_h"] - f_abs
         dy[31] = (u["loop_diuretic_mg_h"] + f_abs
                   - LN2 / c["loop_diuretic_half_life_h"] * max(q["F"], 0.0))
-        # Ledger: cumulative in (32-37) and out (38-43), urine (44).
-        dy[32] = u["water_in_l_h"] + u["oral_water_l_h"] + W_t + met
-        dy[33] = u["na_in_mmol_h"] + u["oral_na_mmol_h"]
-        dy[34] = u["k_in_mmol_h"] + u["oral_k_mmol_h"]
-        dy[35] = u["urea_in_mmol_h"] + u["oral_urea_mmol_h"] + ureagen
-        dy[36] = u["glucose_in_mmol_h"] + u["oral_glucose_mmol_h"] + Pg
-        dy[37] = u["albumin_in_g_h"]
-        dy[38] = u["water_out_l_h"] + V_u + ins + b * (q["V_p"] + q["V_r"])
-        dy[39] = u["na_out_mmol_h"] + q["E_Na"] + b * q["Na_p"]
-        dy[40] = u["k_out_mmol_h"] + q["E_K"] + b * q["K_p"]
-        dy[41] = u["urea_out_mmol_h"] + q["E_U"] + b * (q["U_p"] + q["U_r"])
-        dy[42] = u["glucose_out_mmol_h"] + q["E_G"] + q["D_g"] + b * q["G_p"]
-        dy[43] = u["albumin_out_g_h"] + b * q["A_p"]
-        dy[44] = V_u
+        dy[32] = (max(q["F"], 0.0) - q["F_e"]) / c["loop_diuretic_effect_delay_h"]
+        # Ledger: cumulative in (33-38) and out (39-44), urine (45).
+        dy[33] = u["water_in_l_h"] + u["oral_water_l_h"] + W_t + met
+        dy[34] = u["na_in_mmol_h"] + u["oral_na_mmol_h"]
+        dy[35] = u["k_in_mmol_h"] + u["oral_k_mmol_h"]
+        dy[36] = u["urea_in_mmol_h"] + u["oral_urea_mmol_h"] + ureagen
+        dy[37] = u["glucose_in_mmol_h"] + u["oral_glucose_mmol_h"] + Pg
+        dy[38] = u["albumin_in_g_h"]
+        dy[39] = u["water_out_l_h"] + V_u + ins + b * (q["V_p"] + q["V_r"])
+        dy[40] = u["na_out_mmol_h"] + q["E_Na"] + b * q["Na_p"]
+        dy[41] = u["k_out_mmol_h"] + q["E_K"] + b * q["K_p"]
+        dy[42] = u["urea_out_mmol_h"] + q["E_U"] + b * (q["U_p"] + q["U_r"])
+        dy[43] = u["glucose_out_mmol_h"] + q["E_G"] + q["D_g"] + b * q["G_p"]
+        dy[44] = u["albumin_out_g_h"] + b * q["A_p"]
+        dy[45] = V_u
         return dy
 
     # -- observations -----------------------------------------------------
@@ -456,9 +458,9 @@ class Model:
         }
         order = ["water", "na", "k", "urea", "glucose", "albumin"]
         for j, species in enumerate(order):
-            s[32 + j] = max(abs(content[species]), 1e-3)
-            s[38 + j] = max(abs(content[species]), 1e-3)
-        s[44] = max(abs(content["water"]), 1e-3)
+            s[33 + j] = max(abs(content[species]), 1e-3)
+            s[39 + j] = max(abs(content[species]), 1e-3)
+        s[45] = max(abs(content["water"]), 1e-3)
         return s
 
     def simulate(self, method: str = "BDF", rtol: float = 1e-10,

@@ -42,6 +42,7 @@ pub const READ_AS_IT_RUNS: &[&str] = &[
     "kaliuresis_exponent",
     "loop_diuretic_absorption_h",
     "loop_diuretic_ec50_mg",
+    "loop_diuretic_effect_delay_h",
     "loop_diuretic_half_life_h",
     "loop_diuretic_hill",
     "loop_diuretic_k_mmol_h",
@@ -257,6 +258,7 @@ mod tests {
         y[S::V2Antagonist as usize] = 10.0;
         y[S::RenalV2Effect as usize] = 2.0;
         y[S::LoopDiuretic as usize] = 6.0;
+        y[S::LoopDiureticEffectSite as usize] = 5.0;
         y[S::LoopDiureticDepot as usize] = 5.0;
         y[S::PlasmaL as usize] *= 0.85;
         y[S::BrainOsmolytes as usize] *= 0.9;

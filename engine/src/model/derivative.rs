@@ -138,6 +138,14 @@ impl Model {
                 - drugs::eliminated_per_h(s(S::LoopDiuretic), p.loop_diuretic_half_life_h),
         );
         set(
+            S::LoopDiureticEffectSite,
+            drugs::toward_effect_site(
+                s(S::LoopDiuretic),
+                s(S::LoopDiureticEffectSite),
+                p.loop_diuretic_effect_delay_h,
+            ),
+        );
+        set(
             S::RenalV2Effect,
             (f.v2_target_pmol_l - s(S::RenalV2Effect)) / p.v2_response_h,
         );

@@ -218,7 +218,7 @@ impl Model {
         let v2_target = (vasopressin + desmopressin_equiv) * antagonism;
         let thiazide = u.thiazide_effect.clamp(0.0, 1.0);
         let loop_effect = drugs::loop_effect(
-            s(S::LoopDiuretic),
+            s(S::LoopDiureticEffectSite),
             p.loop_diuretic_ec50_mg,
             p.loop_diuretic_hill,
         );

@@ -20,6 +20,14 @@ pub fn v2_agonism_left(antagonist_mg: f64, ki_mg: f64) -> f64 {
     1.0 / (1.0 + antagonist_mg.max(0.0) / ki_mg)
 }
 
+/// Rate of change of the amount at a drug's site of action, which follows
+/// the amount in the body with time constant `delay_h` (an effect
+/// compartment: the drug acts where it is delivered, not where it is
+/// measured).
+pub fn toward_effect_site(in_body: f64, at_site: f64, delay_h: f64) -> f64 {
+    (in_body.max(0.0) - at_site) / delay_h
+}
+
 /// Effect of a loop diuretic (0 to 1) at `amount_mg` in the body: a
 /// sigmoid (Hill) dose-response with half effect at `ec50_mg`, the steep,
 /// saturating natriuretic response of loop diuretics.
@@ -44,6 +52,28 @@ mod tests {
     fn a_competitive_antagonist_at_ki_halves_agonism() {
         assert!((v2_agonism_left(10.0, 10.0) - 0.5).abs() < 1e-12);
         assert_eq!(v2_agonism_left(0.0, 10.0), 1.0);
+    }
+
+    #[test]
+    fn the_effect_site_of_an_iv_bolus_peaks_after_the_injection() {
+        // Bolus 40 mg, elimination half-life 1 h, effect-site delay 0.25 h:
+        // the site peaks at ln(ke0/k)/(ke0 - k) = 0.53 h (the textbook
+        // solution of the two first-order steps).
+        let (k, ke0) = (std::f64::consts::LN_2, 4.0);
+        let t_peak = (ke0 / k).ln() / (ke0 - k);
+        let (mut a, mut e, dt) = (40.0_f64, 0.0_f64, 1e-4);
+        let (mut best, mut t_best) = (0.0, 0.0);
+        for i in 0..20_000 {
+            let t = i as f64 * dt;
+            if e > best {
+                best = e;
+                t_best = t;
+            }
+            let de = toward_effect_site(a, e, 1.0 / ke0);
+            a -= eliminated_per_h(a, 1.0) * dt;
+            e += de * dt;
+        }
+        assert!((t_best - t_peak).abs() < 0.01, "{t_best} vs {t_peak}");
     }
 
     #[test]

@@ -152,11 +152,12 @@ const GUT_POOLS: [(crate::body::S, crate::body::Species); 5] = {
         (S::GutGlucose, Species::Glucose),
     ]
 };
-const DRUG_POOLS: [(crate::body::S, f64); 5] = {
+const DRUG_POOLS: [(crate::body::S, f64); 6] = {
     use crate::body::S;
     [
         (S::LoopDiureticDepot, 40.0),
         (S::LoopDiuretic, 40.0),
+        (S::LoopDiureticEffectSite, 40.0),
         (S::V2Antagonist, 15.0),
         (S::DesmopressinDepot, 2.0),
         (S::Desmopressin, 2.0),

@@ -134,7 +134,44 @@ fn jobs(args: &CheckOptions) -> Result<Vec<Job>> {
             tolerances,
         });
     }
+    refuse_unknown_scenarios(&jobs)?;
     Ok(jobs)
+}
+
+/// A tolerance file may name only scenarios that exist: a script being
+/// checked, or a `.rhai` file beside one (a misspelt name would silently
+/// leave its scenario at the defaults).
+fn refuse_unknown_scenarios(jobs: &[Job]) -> Result<()> {
+    let mut known: std::collections::BTreeSet<String> =
+        jobs.iter().map(|j| j.name.clone()).collect();
+    for job in jobs {
+        let dir = job.script.parent().unwrap_or_else(|| Path::new("."));
+        if let Ok(entries) = std::fs::read_dir(dir) {
+            for e in entries.flatten() {
+                let p = e.path();
+                if p.extension().is_some_and(|x| x == "rhai") {
+                    known.insert(scripts::stem(&p));
+                }
+            }
+        }
+    }
+    for job in jobs {
+        let t = &job.tolerances;
+        let Some(path) = &t.path else { continue };
+        for (name, line) in t.scenario_names() {
+            if !known.contains(&name) {
+                let hint = tidewater::suggest::closest(&name, known.iter().map(String::as_str))
+                    .map(|c| format!(" (did you mean `{c}`?)"))
+                    .unwrap_or_default();
+                anyhow::bail!(
+                    "tolerance file {}{}: scenarios.{name}: no such scenario{hint}; scenarios are named by their script's file name",
+                    path.display(),
+                    line.map(|l| format!(":{l}")).unwrap_or_default()
+                );
+            }
+        }
+    }
+    Ok(())
 }
 
 /// Check (or, with `update`, write the baseline of) one scenario.

@@ -103,6 +103,8 @@ pub struct Tolerances {
     pub path: Option<PathBuf>,
     columns: BTreeMap<usize, Spec>,
     scenarios: BTreeMap<String, BTreeMap<usize, Spec>>,
+    /// The line of each scenario's key in the file.
+    scenario_lines: BTreeMap<String, usize>,
 }
 
 /// The first line of `text` whose content starts with `key:` (for errors
@@ -117,7 +119,53 @@ fn line_of(text: &str, key: &str) -> Option<usize> {
         .map(|i| i + 1)
 }
 
+/// The first key given twice under the same parent in block-style YAML:
+/// (line, key). YAML lets the last of two equal keys win silently, which
+/// would let a drifted baseline pass under a loose copy of a tolerance.
+fn duplicate_key(text: &str) -> Option<(usize, String)> {
+    // Open blocks: (indent of their keys, keys seen).
+    let mut open: Vec<(usize, std::collections::BTreeSet<String>)> = Vec::new();
+    for (i, line) in text.lines().enumerate() {
+        let content = line.split('#').next().unwrap_or("");
+        let trimmed = content.trim_start();
+        if trimmed.is_empty() || trimmed.starts_with('-') {
+            continue;
+        }
+        let Some((key, _)) = trimmed.split_once(':') else {
+            continue;
+        };
+        let key = key
+            .trim()
+            .trim_matches(|c| c == '"' || c == '\'')
+            .to_string();
+        let indent = content.len() - trimmed.len();
+        while open.last().is_some_and(|(ind, _)| *ind > indent) {
+            open.pop();
+        }
+        match open.last_mut() {
+            Some((ind, keys)) if *ind == indent => {
+                if !keys.insert(key.clone()) {
+                    return Some((i + 1, key));
+                }
+            }
+            _ => open.push((indent, [key].into_iter().collect())),
+        }
+        // A key whose value follows on the next lines opens a new block;
+        // the next deeper key starts it.
+    }
+    None
+}
+
 impl Tolerances {
+    /// Names of the scenarios the file gives tolerances for, each with the
+    /// line it stands on.
+    pub fn scenario_names(&self) -> Vec<(String, Option<usize>)> {
+        self.scenarios
+            .keys()
+            .map(|name| (name.clone(), self.scenario_lines.get(name).copied()))
+            .collect()
+    }
+
     /// The defaults alone.
     pub fn defaults() -> Self {
         Tolerances::default()
@@ -132,6 +180,12 @@ impl Tolerances {
 
     /// Parse tolerance YAML; `path` names the file in errors.
     pub fn parse(text: &str, path: &Path) -> Result<Self, ToleranceError> {
+        if let Some((line, key)) = duplicate_key(text) {
+            return Err(ToleranceError(format!(
+                "tolerance file {}:{line}: `{key}` is given twice in the same section (the last would silently win); keep one",
+                path.display()
+            )));
+        }
         let file: FileText = if text.trim().is_empty() {
             FileText::default()
         } else {
@@ -186,10 +240,16 @@ impl Tolerances {
         for (name, specs) in &file.scenarios {
             scenarios.insert(name.clone(), convert(&format!("scenarios.{name}"), specs)?);
         }
+        let scenario_lines = file
+            .scenarios
+            .keys()
+            .filter_map(|name| line_of(text, name).map(|l| (name.clone(), l)))
+            .collect();
         Ok(Tolerances {
             path: Some(path.to_path_buf()),
             columns,
             scenarios,
+            scenario_lines,
         })
     }
 
@@ -285,6 +345,25 @@ mod tests {
             .unwrap_err()
             .0;
         assert!(e.contains("unknown field `colums`"), "{e}");
+    }
+
+    #[test]
+    fn a_key_given_twice_is_refused_with_its_line() {
+        let text =
+            "columns:\n  na_mmol_l: {abs: 0.1}\n  k_mmol_l: {abs: 0.1}\n  na_mmol_l: {abs: 5}\n";
+        let err = Tolerances::parse(text, Path::new("t.yaml"))
+            .unwrap_err()
+            .to_string();
+        assert!(
+            err.contains("t.yaml:4") && err.contains("given twice"),
+            "{err}"
+        );
+        // The same column under two scenarios is not a duplicate.
+        let text = "scenarios:\n  a:\n    na_mmol_l: {abs: 1}\n  b:\n    na_mmol_l: {abs: 2}\n";
+        assert!(Tolerances::parse(text, Path::new("t.yaml")).is_ok());
+        // Nor is a scenario key equal to a column key above it.
+        let text = "columns:\n  na_mmol_l: {abs: 1}\nscenarios:\n  x:\n    na_mmol_l: {abs: 2}\n";
+        assert!(Tolerances::parse(text, Path::new("t.yaml")).is_ok());
     }
 
     #[test]

@@ -109,8 +109,8 @@ pub fn table(header: &[&str], rows: &[Vec<String>]) -> String {
 pub fn fluids(args: FluidsOptions) -> Result<()> {
     let mut lib = FluidLibrary::bundled();
     if let Some(path) = &args.file {
-        let text =
-            std::fs::read_to_string(path).with_context(|| format!("reading {}", path.display()))?;
+        let text = tidewater::textfile::read_text(path)
+            .with_context(|| format!("reading {}", path.display()))?;
         lib.extend(FluidLibrary::from_yaml(&text, &path.display().to_string())?);
     }
     if args.json {
@@ -174,7 +174,7 @@ pub fn fluids(args: FluidsOptions) -> Result<()> {
 pub fn patient(args: PatientOptions) -> Result<()> {
     let (p, source): (Patient, String) = match args.source {
         PatientSource::File(path) => {
-            let text = std::fs::read_to_string(&path)
+            let text = tidewater::textfile::read_text(&path)
                 .with_context(|| format!("reading {}", path.display()))?;
             (
                 patient_from_yaml(&text, &path.display().to_string())?,

@@ -20,7 +20,7 @@ use tidewater::InputError;
 /// Read a sweep spec and load its base scenario (the script path is
 /// relative to the spec file).
 fn load_spec(spec_path: &Path) -> Result<(SweepSpec, PathBuf, Scenario)> {
-    let text = std::fs::read_to_string(spec_path)
+    let text = tidewater::textfile::read_text(spec_path)
         .with_context(|| format!("cannot read {}", spec_path.display()))?;
     let spec = SweepSpec::from_yaml(&text, &spec_path.display().to_string())?;
     let script = spec_path

@@ -90,6 +90,7 @@ pub mod scenario;
 pub mod simulate;
 pub mod suggest;
 pub mod sweep;
+pub mod textfile;
 pub mod trajectory;
 pub mod units;
 pub mod validation;

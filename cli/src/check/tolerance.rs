@@ -173,7 +173,7 @@ impl Tolerances {
 
     /// Read a tolerance file.
     pub fn read(path: &Path) -> Result<Self, ToleranceError> {
-        let text = std::fs::read_to_string(path)
+        let text = tidewater::textfile::read_text(path)
             .map_err(|e| ToleranceError(format!("tolerance file {}: {e}", path.display())))?;
         Self::parse(&text, path)
     }

@@ -27,7 +27,7 @@ struct Reuse {
 /// files are looked up in.
 fn read_script(path: &Path) -> Result<(String, String, &Path), ScenarioError> {
     let name = path.display().to_string();
-    let source = std::fs::read_to_string(path).map_err(|e| ScenarioError::Read {
+    let source = crate::textfile::read_text(path).map_err(|e| ScenarioError::Read {
         file: name.clone(),
         message: e.to_string(),
     })?;

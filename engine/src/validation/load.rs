@@ -44,7 +44,7 @@ impl Dossier {
     pub fn load(dir: &Path) -> Result<Dossier, ValidationError> {
         let path = dir.join(CHECKS_FILE);
         let file = path.display().to_string();
-        let text = std::fs::read_to_string(&path).map_err(|e| ValidationError::Read {
+        let text = crate::textfile::read_text(&path).map_err(|e| ValidationError::Read {
             file: file.clone(),
             message: e.to_string(),
         })?;

@@ -315,7 +315,7 @@ pub(super) fn register(engine: &mut Engine, st: &Shared, source: Rc<str>) {
                 Ok(p) => p,
                 Err(m) => return fail(&ctx, format!("fluids_file: {m}")),
             };
-            let text = match std::fs::read_to_string(&path) {
+            let text = match crate::textfile::read_text(&path) {
                 Ok(t) => t,
                 Err(e) => return fail(&ctx, format!("fluids_file: cannot read \"{name}\": {e}")),
             };

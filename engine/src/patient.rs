@@ -32,22 +32,17 @@ pub const PATIENT_FIELDS: &[&str] = &[
     "cause",
 ];
 
+/// The fields of [`PATIENT_FIELDS`] that hold a word, not a number.
+pub const TEXT_PATIENT_FIELDS: &[&str] = &["sex", "water_method", "onset", "cause"];
+
 /// The fields of [`PATIENT_FIELDS`] that hold a number (a sweep can vary
 /// them).
-pub const NUMERIC_PATIENT_FIELDS: &[&str] = &[
-    "age_years",
-    "weight_kg",
-    "height_cm",
-    "water_fraction",
-    "na",
-    "k",
-    "glucose_mmol_l",
-    "glucose_mg_dl",
-    "urea_mmol_l",
-    "bun_mg_dl",
-    "albumin_g_l",
-    "hematocrit",
-];
+pub fn numeric_patient_fields() -> impl Iterator<Item = &'static str> {
+    PATIENT_FIELDS
+        .iter()
+        .copied()
+        .filter(|f| !TEXT_PATIENT_FIELDS.contains(f))
+}
 
 /// A patient as described by the user. Optional fields fall back to the
 /// defaults of [`Params`] (normal labs) or of the sex.
@@ -375,10 +370,13 @@ mod tests {
 
     #[test]
     fn every_numeric_field_is_a_field_a_sweep_can_set() {
-        for f in NUMERIC_PATIENT_FIELDS {
-            assert!(PATIENT_FIELDS.contains(f), "{f}");
+        assert_eq!(numeric_patient_fields().count(), 12);
+        for f in numeric_patient_fields() {
             let mut p = Patient::healthy("male", 40.0, 70.0);
             crate::sweep::set_patient_field(&mut p, f, 1.0).unwrap_or_else(|e| panic!("{e}"));
+        }
+        for f in TEXT_PATIENT_FIELDS {
+            assert!(PATIENT_FIELDS.contains(f), "{f}");
         }
         let mut p = Patient::healthy("male", 40.0, 70.0);
         assert!(crate::sweep::set_patient_field(&mut p, "sex", 1.0).is_err());

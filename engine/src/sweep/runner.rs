@@ -46,7 +46,7 @@ pub fn set_patient_field(
         "albumin_g_l" => &mut patient.albumin_g_l,
         "hematocrit" => &mut patient.hematocrit,
         other => {
-            let known = crate::patient::NUMERIC_PATIENT_FIELDS.iter().copied();
+            let known = crate::patient::numeric_patient_fields();
             return Err(format!(
                 "patient.{other} is not a numeric patient field{}",
                 crate::suggest::closest(other, known)

@@ -281,6 +281,16 @@ impl Species {
     }
 }
 
+/// Total body water of a state vector: tissue cells, red cells, brain,
+/// interstitium and plasma (not the water still in the gut lumen), L.
+pub fn total_water_l(y: &[f64]) -> f64 {
+    y[S::CellsL as usize]
+        + y[S::RedCellsL as usize]
+        + y[S::BrainL as usize]
+        + y[S::InterstitiumL as usize]
+        + y[S::PlasmaL as usize]
+}
+
 /// A body state: the state vector with named read access.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Body {
@@ -297,7 +307,7 @@ impl Body {
     /// Total body water (cells, interstitium, plasma; not the water still
     /// in the gut lumen), L.
     pub fn total_water_l(&self) -> f64 {
-        self.extracellular_l() + self.intracellular_l()
+        total_water_l(&self.y)
     }
 
     /// Extracellular water (plasma + interstitium), L.

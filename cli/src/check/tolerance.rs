@@ -148,10 +148,10 @@ fn duplicate_key(text: &str) -> Option<(usize, String)> {
                     return Some((i + 1, key));
                 }
             }
+            // The first key of a deeper block (the value of the key
+            // above it) opens that block.
             _ => open.push((indent, [key].into_iter().collect())),
         }
-        // A key whose value follows on the next lines opens a new block;
-        // the next deeper key starts it.
     }
     None
 }

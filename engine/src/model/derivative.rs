@@ -41,7 +41,7 @@ impl Model {
 
         // The gut lumen: what is swallowed waits there and is absorbed
         // into plasma, each pool at the same fractional rate.
-        let k_gut = f.gut_absorption_per_h;
+        let k_gut = self.calibration.gut_absorption_per_h;
         let gut_water = gut::absorbed_per_h(s(S::GutWater), k_gut);
         let gut_na = gut::absorbed_per_h(s(S::GutNa), k_gut);
         let gut_k = gut::absorbed_per_h(s(S::GutK), k_gut);

@@ -72,8 +72,6 @@ pub struct Fluxes {
     pub v2_target_pmol_l: f64,
     /// Drinking driven by thirst, L/h (into the gut).
     pub thirst_water_l_h: f64,
-    /// Gut absorption rate constant, 1/h.
-    pub gut_absorption_per_h: f64,
     /// Blood volume, L.
     pub blood_volume_l: f64,
     /// Hematocrit, fraction.
@@ -305,7 +303,6 @@ impl Model {
             } else {
                 0.0
             },
-            gut_absorption_per_h: self.calibration.gut_absorption_per_h,
             blood_volume_l: blood_volume,
             hematocrit,
             blood_loss_per_h: u.blood_loss_l_h / blood_volume.max(1e-9),

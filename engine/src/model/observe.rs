@@ -108,11 +108,7 @@ impl Model {
             brain_l: s(S::BrainL),
             interstitium_l: s(S::InterstitiumL),
             plasma_l: v_p,
-            total_water_l: s(S::CellsL)
-                + s(S::RedCellsL)
-                + s(S::BrainL)
-                + s(S::InterstitiumL)
-                + v_p,
+            total_water_l: crate::body::total_water_l(y),
             gut_ml: units::l_to_ml(s(S::GutWater)),
             brain_volume_index: s(S::BrainL) / c.brain_normal_l,
             hematocrit: f.hematocrit,

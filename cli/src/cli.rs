@@ -57,6 +57,15 @@ pub enum Command {
     /// built-in case, as `demo`) into REPORTS/<name>/.
     #[command(after_help = format!("Example:\n  tidewater render-reports scenarios/ reports/\n\n{EXIT_CODES}"))]
     RenderReports(RenderArgs),
+    /// Find the dose of one fluid that brings the change of serum sodium at
+    /// a time into a goal range without crossing a limit of the scenario's
+    /// guideline set, with the full model: an infusion rate, or boluses;
+    /// or, with --relower, a re-lowering after an overshoot.
+    #[command(
+        after_help = format!("Examples:\n  tidewater plan scenarios/planning_saline_rate.rhai --fluid saline_3 --goal-rise 4..6 --by 24\n  tidewater plan SCRIPT --fluid saline_3 --form bolus --goal-rise 4..6 --by 1\n  tidewater plan SCRIPT --fluid dextrose_5 --goal-fall 6..10 --by 24 --json\n  tidewater plan SCRIPT --fluid saline_3 --goal-rise 4..6 --by 24 --uncertainty 200\n  tidewater plan SCRIPT --relower --from 14 --by 24 --clamp 2\n\nThe script gives the patient, the cause and the background (everything it\ndoes runs with every candidate dose); the planner adds the dose.\n\nExit codes:\n  0  a dose meets the goal within the limits\n  1  no dose meets the goal within the limits (the reason and the nearest\n     feasible dose are printed)\n  2  bad input (option, script) or a failed run"),
+        allow_negative_numbers = true
+    )]
+    Plan(PlanArgs),
     /// List the fluid library with compositions (mmol/L; albumin in g/L).
     #[command(
         after_help = "Examples:\n  tidewater fluids\n  tidewater fluids --json\n  tidewater fluids --file my_fluids.yaml"
@@ -287,6 +296,100 @@ pub struct CheckArgs {
     /// Scenarios run at once (default: all cores).
     #[arg(long, value_parser = clap::value_parser!(u64).range(1..=1024))]
     pub threads: Option<u64>,
+}
+
+/// Options of `plan`.
+#[derive(Args, Debug)]
+pub struct PlanArgs {
+    /// Scenario script: the patient, the cause and the background.
+    pub script: PathBuf,
+    /// Fluid to give (an id of the script's fluid library). Default with
+    /// --relower: dextrose_5.
+    #[arg(long, required_unless_present = "relower")]
+    pub fluid: Option<String>,
+    /// Goal for the rise of sodium by --by, mmol/L: LOW..HIGH (e.g. 4..6).
+    #[arg(long, value_name = "LOW..HIGH", conflicts_with = "goal_fall")]
+    pub goal_rise: Option<String>,
+    /// Goal for the fall of sodium by --by, mmol/L: LOW..HIGH (e.g. 6..10).
+    #[arg(long, value_name = "LOW..HIGH")]
+    pub goal_fall: Option<String>,
+    /// Time the goal is measured at, h from the start.
+    #[arg(long, value_name = "HOURS")]
+    pub by: f64,
+    /// Rate (an infusion) or bolus (equal boluses).
+    #[arg(long, value_enum, default_value_t = PlanForm::Rate)]
+    pub form: PlanForm,
+    /// Start of the dose, h (with --relower: the time the re-lowering
+    /// starts).
+    #[arg(long, value_name = "HOURS", default_value_t = 0.0)]
+    pub from: f64,
+    /// Duration of the infusion, h (default: until --by).
+    #[arg(long = "for", value_name = "HOURS")]
+    pub for_h: Option<f64>,
+    /// Highest infusion rate the planner may propose, mL/h.
+    #[arg(long, value_name = "ML_H", default_value_t = 500.0)]
+    pub max_rate: f64,
+    /// Duration of one bolus, minutes.
+    #[arg(long, value_name = "MIN", default_value_t = 20.0)]
+    pub bolus_minutes: f64,
+    /// Start-to-start interval of boluses, minutes.
+    #[arg(long, value_name = "MIN", default_value_t = 20.0)]
+    pub bolus_every: f64,
+    /// Most boluses.
+    #[arg(long, value_name = "N", default_value_t = 3)]
+    pub max_boluses: usize,
+    /// Largest single bolus, mL.
+    #[arg(long, value_name = "ML", default_value_t = 150.0)]
+    pub max_bolus: f64,
+    /// Plan a re-lowering after an overshoot: the rate of --fluid (default
+    /// 5 % dextrose) from --from that brings the 24 h rise back under the
+    /// limit by --by without falling below --floor.
+    #[arg(long, conflicts_with_all = ["goal_rise", "goal_fall", "uncertainty"])]
+    pub relower: bool,
+    /// With --relower: desmopressin clamp, micrograms IV at --from and every
+    /// --clamp-every hours until --by.
+    #[arg(long, value_name = "UG", requires = "relower")]
+    pub clamp: Option<f64>,
+    /// With --clamp: interval between desmopressin doses, h.
+    #[arg(long, value_name = "HOURS", default_value_t = 8.0, requires = "clamp")]
+    pub clamp_every: f64,
+    /// With --relower: lowest sodium allowed from --from on, mmol/L
+    /// (default: the sodium at the start of the scenario).
+    #[arg(long, value_name = "MMOL_L", requires = "relower")]
+    pub floor: Option<f64>,
+    /// Rerun the dose found over N members drawn from the plausible
+    /// unknowns and report the probability of crossing each limit and of
+    /// missing the goal.
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u64).range(2..=100_000))]
+    pub uncertainty: Option<u64>,
+    /// With --uncertainty: a sweep spec whose parameters (and seed, design)
+    /// replace the default unknowns.
+    #[arg(long, value_name = "YAML", requires = "uncertainty")]
+    pub unknowns: Option<PathBuf>,
+    /// With --uncertainty: the largest probability of crossing a limit
+    /// accepted in the dose range reported.
+    #[arg(
+        long,
+        value_name = "P",
+        default_value_t = 0.1,
+        requires = "uncertainty"
+    )]
+    pub risk: f64,
+    /// With --uncertainty: worker threads (default: all cores).
+    #[arg(long, requires = "uncertainty")]
+    pub threads: Option<usize>,
+    /// Print the answer as one JSON object.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// How the planner gives the fluid.
+#[derive(clap::ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
+pub enum PlanForm {
+    /// A constant infusion; the planner finds the rate.
+    Rate,
+    /// Equal boluses; the planner finds their number and volume.
+    Bolus,
 }
 
 /// Options of `dump`.

@@ -85,6 +85,7 @@ pub mod params;
 pub mod patient;
 pub mod physiology;
 pub mod plan;
+pub mod planner;
 pub mod reference;
 pub mod scenario;
 pub mod simulate;

@@ -157,6 +157,12 @@ impl Scenario {
         &self.name
     }
 
+    /// A fluid by id from the script's library (the bundled fluids plus
+    /// any `fluids_file(...)` the script read).
+    pub fn fluid(&self, id: &str) -> Result<crate::fluids::Fluid, crate::error::InputError> {
+        self.state.borrow().fluids.get(id).cloned()
+    }
+
     /// Number of rules and of expectations.
     pub fn counts(&self) -> (usize, usize) {
         (self.script.rules.len(), self.script.expectations.len())

@@ -126,7 +126,7 @@ pub struct RunArgs {
     /// when the run succeeds; untouched when it fails.
     #[arg(long, short = 'o', value_name = "DIR")]
     pub out: Option<PathBuf>,
-    /// Exit with 1 when a guideline limit (severity "limit") is crossed.
+    /// Exit with 1 when a guideline limit (severity "limit") is crossed (a goal missed does not count).
     #[arg(long)]
     pub strict: bool,
     /// Print nothing on stderr but errors.

@@ -343,12 +343,7 @@ pub fn window_changes(times: &[f64], na: &[f64], rule: &Rule) -> Vec<f64> {
 
 /// Check a sodium series against the rules that apply in `situation`; one
 /// flag per crossed rule.
-pub fn check(
-    times: &[f64],
-    na: &[f64],
-    choice: &LimitChoice,
-    situation: &Situation,
-) -> Vec<Flag> {
+pub fn check(times: &[f64], na: &[f64], choice: &LimitChoice, situation: &Situation) -> Vec<Flag> {
     let mut flags = Vec::new();
     for rule in choice.applicable_rules(situation) {
         let changes = window_changes(times, na, rule);

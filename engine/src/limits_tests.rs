@@ -68,11 +68,20 @@ fn hypernatremia_fall_limit_needs_a_chronic_hypernatremic_start() {
     let t: Vec<f64> = (0..=48).map(|h| h as f64).collect();
     let na: Vec<f64> = t
         .iter()
-        .map(|&h| if h <= 24.0 { 118.0 + h * 0.5 } else { 130.0 - (h - 24.0) * 0.5 })
+        .map(|&h| {
+            if h <= 24.0 {
+                118.0 + h * 0.5
+            } else {
+                130.0 - (h - 24.0) * 0.5
+            }
+        })
         .collect();
     let eu = choose("europe-2014", false).unwrap();
     let flags = check(&t, &na, &eu, &situation(118.0, Onset::Chronic));
-    assert!(flags.iter().all(|f| f.rule.direction == Direction::Rise), "{flags:?}");
+    assert!(
+        flags.iter().all(|f| f.rule.direction == Direction::Rise),
+        "{flags:?}"
+    );
 }
 
 #[test]

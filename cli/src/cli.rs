@@ -74,7 +74,7 @@ pub enum Command {
     /// Show a patient's derived volumes and solute contents, from a YAML file
     /// or from flags.
     #[command(
-        after_help = "Examples:\n  tidewater patient --sex male --age 45 --weight 80\n  tidewater patient --sex female --age 70 --weight 55 --na 121 --onset chronic\n  tidewater patient --file patient.yaml --json\n\nThe YAML file takes the fields sex, age_years, weight_kg, height_cm,\nwater_fraction, water_method, na, k, glucose_mmol_l, glucose_mg_dl,\nurea_mmol_l, bun_mg_dl, albumin_g_l, hematocrit, onset, cause.",
+        after_help = "Examples:\n  tidewater patient --sex male --age 45 --weight 80\n  tidewater patient --sex female --age 70 --weight 55 --na 121 --onset chronic\n  tidewater patient --file patient.yaml --json\n\nThe YAML file takes the fields sex, age_years, weight_kg, height_cm,\nwater_fraction, water_method, na, k, glucose_mmol_l, glucose_mg_dl,\nurea_mmol_l, bun_mg_dl, albumin_g_l, hematocrit, onset, symptoms, cause.",
         allow_negative_numbers = true
     )]
     Patient(PatientArgs),
@@ -135,7 +135,7 @@ pub struct RunArgs {
     /// when the run succeeds; untouched when it fails.
     #[arg(long, short = 'o', value_name = "DIR")]
     pub out: Option<PathBuf>,
-    /// Exit with 1 when a guideline limit (severity "limit") is crossed.
+    /// Exit with 1 when a guideline limit (severity "limit") is crossed (a goal missed does not count).
     #[arg(long)]
     pub strict: bool,
     /// Print nothing on stderr but errors.
@@ -170,7 +170,7 @@ pub struct FluidsArgs {
 #[derive(Args, Debug)]
 pub struct PatientArgs {
     /// Patient description in YAML.
-    #[arg(long, value_name = "YAML", conflicts_with_all = ["sex", "age", "weight", "height", "na", "k", "glucose", "urea", "albumin", "hematocrit", "onset", "cause", "water_method"])]
+    #[arg(long, value_name = "YAML", conflicts_with_all = ["sex", "age", "weight", "height", "na", "k", "glucose", "urea", "albumin", "hematocrit", "onset", "symptoms", "cause", "water_method"])]
     pub file: Option<PathBuf>,
     /// Sex: male or female.
     #[arg(long, required_unless_present = "file")]
@@ -205,6 +205,10 @@ pub struct PatientArgs {
     /// Onset: acute or chronic.
     #[arg(long)]
     pub onset: Option<String>,
+    /// Symptoms at the start: none, moderate or severe (decides which
+    /// guideline goals apply).
+    #[arg(long)]
+    pub symptoms: Option<String>,
     /// Cause (see `tidewater patient --help` of the engine docs): none,
     /// hypovolemic, inappropriate_antidiuresis, reset_osmostat,
     /// low_solute_intake, primary_polydipsia, diuretic_induced,

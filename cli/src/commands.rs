@@ -64,6 +64,41 @@ pub fn run(opts: RunOptions, style: Style) -> Result<bool> {
                 }
             );
         }
+        for g in &s.goals {
+            let text = format!(
+                "goal ({}): {} ({} at least {} mmol/L by {} h): change {} mmol/L at {} h{}",
+                g.status.replace('_', " "),
+                g.goal,
+                g.direction,
+                g.min_mmol_l,
+                g.by_h,
+                fixed(g.change_mmol_l, 1),
+                sig(g.time_h, 4),
+                match g.reached_h {
+                    Some(t) if g.status != "met" => format!("; reached at {} h", sig(t, 4)),
+                    _ => String::new(),
+                }
+            );
+            eprintln!(
+                "{}",
+                match g.status.as_str() {
+                    "met" => style.good(&text),
+                    _ => style.warn(&text),
+                }
+            );
+        }
+        if let Some(b) = &s.below_start {
+            eprintln!(
+                "{}",
+                style.warn(&format!(
+                    "warning: serum sodium fell below its start of {} mmol/L at {} h; lowest {} mmol/L at {} h",
+                    fixed(b.start_mmol_l, 1),
+                    sig(b.first_time_h, 4),
+                    fixed(b.lowest_mmol_l, 1),
+                    sig(b.lowest_time_h, 4)
+                ))
+            );
+        }
         for e in &s.expectations {
             let mark = if e.passed {
                 style.good("held  ")

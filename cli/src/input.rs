@@ -278,6 +278,7 @@ pub fn patient_rows(sim: &Simulation) -> Vec<Row> {
     }
     rows.extend([
         row("Onset", snake(&format!("{:?}", p.onset))),
+        row("Symptoms", snake(&format!("{:?}", p.symptoms))),
         row("Cause", snake(&format!("{:?}", p.cause))),
         row("Serum sodium", format!("{} mmol/L", fixed(p.na, 1))),
         row("Serum potassium", format!("{} mmol/L", fixed(p.k, 1))),

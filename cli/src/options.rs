@@ -241,6 +241,7 @@ impl PatientOptions {
                     albumin_g_l: a.albumin,
                     hematocrit: a.hematocrit,
                     onset: a.onset,
+                    symptoms: a.symptoms,
                     cause: a.cause,
                     water_method: a.water_method,
                     ..Patient::healthy(sex, age, weight)

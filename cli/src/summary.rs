@@ -1,10 +1,12 @@
 //! The numbers a reader wants first, computed once from a [`RunInput`]:
-//! sodium at start, extremes and end, the largest rises, guideline flags,
-//! mass balance and solver statistics. Serialised as `summary.json`.
+//! sodium at start, extremes and end, the largest rises, guideline flags and
+//! goals, the fall-below-start warning, mass balance and solver statistics.
+//! Serialised as `summary.json`.
 
 use crate::format::round_sig;
 use crate::input::{Expectation, RunInput};
 use serde::Serialize;
+use tidewater::goals::GoalStatus;
 use tidewater::limits::{Direction, Severity};
 use tidewater::CAUTION;
 
@@ -57,6 +59,43 @@ pub struct FlagSummary {
     pub worst_time_h: f64,
 }
 
+/// A guideline goal (minimum correction) judged on the run. A goal missed
+/// is no limit crossing: `--strict` does not count it.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct GoalSummary {
+    /// The goal's label.
+    pub goal: String,
+    /// Its published source.
+    pub source: String,
+    /// "rise" or "fall".
+    pub direction: String,
+    /// Smallest change since the start that meets it, mmol/L.
+    pub min_mmol_l: f64,
+    /// When the change is due, h.
+    pub by_h: f64,
+    /// "met", "missed" or "run_too_short" (the run ended before `by_h`).
+    pub status: String,
+    /// Change since the start at `time_h`, mmol/L.
+    pub change_mmol_l: f64,
+    /// When the change was read (`by_h`, or the end of a shorter run), h.
+    pub time_h: f64,
+    /// First time the change reached the minimum, h (null: never).
+    pub reached_h: Option<f64>,
+}
+
+/// Sodium fell back below its start during a hyponatremia correction.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct BelowStartSummary {
+    /// Serum sodium at the start, mmol/L.
+    pub start_mmol_l: f64,
+    /// First time more than 0.5 mmol/L below the start, h.
+    pub first_time_h: f64,
+    /// Lowest serum sodium, mmol/L.
+    pub lowest_mmol_l: f64,
+    /// When it was lowest, h.
+    pub lowest_time_h: f64,
+}
+
 /// Mass balance of one species.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct BalanceSummary {
@@ -85,8 +124,13 @@ pub struct GuidelineSummary {
     pub source: String,
     /// Whether the high-risk rules apply.
     pub high_risk: bool,
-    /// The rules in force, in words.
+    /// What decided which rules and goals apply, in words
+    /// (`hyponatremia, chronic, severe symptoms`).
+    pub applies_to: String,
+    /// The rules that apply to this run, in words.
     pub rules: Vec<String>,
+    /// The goals that apply to this run, in words.
+    pub goals: Vec<String>,
 }
 
 /// Everything in `summary.json`.
@@ -112,6 +156,10 @@ pub struct Summary {
     pub guideline: GuidelineSummary,
     /// Rules crossed.
     pub flags: Vec<FlagSummary>,
+    /// Goals judged (met or missed; not flags).
+    pub goals: Vec<GoalSummary>,
+    /// Warning: sodium fell back below its start (hyponatremic start only).
+    pub below_start: Option<BelowStartSummary>,
     /// Mass balance per species.
     pub mass_balance: Vec<BalanceSummary>,
     /// Solver statistics.
@@ -159,6 +207,46 @@ pub fn describe_rule(rule: &tidewater::limits::Rule) -> String {
     )
 }
 
+/// Words for a goal: `rise at least 4 mmol/L by 24 h (minimum ...)`.
+pub fn describe_goal(goal: &tidewater::goals::Goal) -> String {
+    format!(
+        "{} at least {} mmol/L by {} h ({})",
+        direction_name(goal.direction),
+        goal.min_mmol_l,
+        goal.by_h,
+        goal.label
+    )
+}
+
+fn status_name(s: GoalStatus) -> &'static str {
+    match s {
+        GoalStatus::Met => "met",
+        GoalStatus::Missed => "missed",
+        GoalStatus::RunTooShort => "run_too_short",
+    }
+}
+
+/// Words for the situation that picks the rules: start, onset, symptoms.
+fn describe_situation(s: &tidewater::Situation) -> String {
+    let start = if s.start_na_mmol_l < tidewater::limits::HYPONATREMIA_BELOW_MMOL_L {
+        "hyponatremia"
+    } else if s.start_na_mmol_l > tidewater::limits::HYPERNATREMIA_ABOVE_MMOL_L {
+        "hypernatremia"
+    } else {
+        "normal sodium"
+    };
+    let symptoms = match s.symptoms {
+        tidewater::patient::Symptoms::None => "no symptoms given",
+        tidewater::patient::Symptoms::Moderate => "moderately severe symptoms",
+        tidewater::patient::Symptoms::Severe => "severe symptoms",
+    };
+    let onset = match s.onset {
+        tidewater::patient::Onset::Acute => "acute",
+        tidewater::patient::Onset::Chronic => "chronic",
+    };
+    format!("{start}, {onset}, {symptoms}")
+}
+
 impl Summary {
     /// Compute the summary of a run.
     pub fn of(input: &RunInput) -> Summary {
@@ -196,7 +284,19 @@ impl Summary {
                 id: traj.limits.guideline.id.clone(),
                 source: traj.limits.guideline.source.clone(),
                 high_risk: traj.limits.high_risk,
-                rules: traj.limits.rules().iter().map(describe_rule).collect(),
+                applies_to: describe_situation(&traj.situation),
+                rules: traj
+                    .limits
+                    .applicable_rules(&traj.situation)
+                    .into_iter()
+                    .map(describe_rule)
+                    .collect(),
+                goals: traj
+                    .limits
+                    .applicable_goals(&traj.situation)
+                    .into_iter()
+                    .map(describe_goal)
+                    .collect(),
             },
             flags: traj
                 .flags
@@ -213,6 +313,27 @@ impl Summary {
                     worst_time_h: round_sig(f.worst_time_h, DIGITS),
                 })
                 .collect(),
+            goals: traj
+                .goals
+                .iter()
+                .map(|g| GoalSummary {
+                    goal: g.goal.label.clone(),
+                    source: g.goal.source.clone(),
+                    direction: direction_name(g.goal.direction).into(),
+                    min_mmol_l: g.goal.min_mmol_l,
+                    by_h: g.goal.by_h,
+                    status: status_name(g.status).into(),
+                    change_mmol_l: round_sig(g.change_mmol_l, DIGITS),
+                    time_h: round_sig(g.time_h, DIGITS),
+                    reached_h: g.reached_h.map(|t| round_sig(t, DIGITS)),
+                })
+                .collect(),
+            below_start: traj.below_start.map(|b| BelowStartSummary {
+                start_mmol_l: round_sig(b.start_mmol_l, DIGITS),
+                first_time_h: round_sig(b.first_time_h, DIGITS),
+                lowest_mmol_l: round_sig(b.lowest_mmol_l, DIGITS),
+                lowest_time_h: round_sig(b.lowest_time_h, DIGITS),
+            }),
             mass_balance: traj
                 .balance
                 .iter()
@@ -233,7 +354,8 @@ impl Summary {
         }
     }
 
-    /// Whether any rule of severity "limit" was crossed.
+    /// Whether any rule of severity "limit" was crossed (goals missed and
+    /// the fall-below-start warning do not count: they are no limits).
     pub fn limit_crossed(&self) -> bool {
         self.flags.iter().any(|f| f.severity == "limit")
     }

@@ -7,13 +7,18 @@ use std::process::Command;
 /// A fresh folder named for `what` holding a spec over the bundled bolus
 /// scenario: `scenario: <path>` followed by `rest`.
 fn spec_in_fresh_dir(what: &str, rest: &str) -> (std::path::PathBuf, std::path::PathBuf) {
-    let dir = std::env::temp_dir().join(format!("tidewater-{what}-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
     let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("..");
     let script = root
         .join("scenarios/severe_chronic_boluses.rhai")
         .canonicalize()
         .unwrap();
+    spec_over(what, &script, rest)
+}
+
+/// A fresh folder named for `what` holding a spec over `script`.
+fn spec_over(what: &str, script: &Path, rest: &str) -> (std::path::PathBuf, std::path::PathBuf) {
+    let dir = std::env::temp_dir().join(format!("tidewater-{what}-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
     let spec = dir.join("spec.yaml");
     std::fs::write(&spec, format!("scenario: {}\n{rest}", script.display())).unwrap();
     (dir, spec)
@@ -21,9 +26,23 @@ fn spec_in_fresh_dir(what: &str, rest: &str) -> (std::path::PathBuf, std::path::
 
 #[test]
 fn summary_lists_every_limit_with_its_probability() {
-    // Body water wide enough that some members overcorrect and some do not.
-    let (dir, spec) = spec_in_fresh_dir(
+    // Body water wide enough that some members overcorrect and some do not,
+    // under the US panel's high-risk limit of 8 mmol/L in any 24 h
+    // (Verbalis et al. 2013, from memory): the bundled bolus scenario with
+    // that guideline set.
+    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("..");
+    let bundled =
+        std::fs::read_to_string(root.join("scenarios/severe_chronic_boluses.rhai")).unwrap();
+    let high_risk = bundled.replace("limits(\"europe-2014\");", "limits(\"us-2013\", true);");
+    assert_ne!(bundled, high_risk, "the scenario names its guideline set");
+    let script = std::env::temp_dir().join(format!(
+        "tidewater-sweep-summary-script-{}.rhai",
+        std::process::id()
+    ));
+    std::fs::write(&script, high_risk).unwrap();
+    let (dir, spec) = spec_over(
         "sweep-summary",
+        &script,
         "design: latin_hypercube\nmembers: 60\nseed: 9\nrtol: 1e-4\nparameters:\n  - name: patient.water_fraction\n    range: [0.33, 0.58]\n",
     );
     let out = dir.join("r.csv");
@@ -51,7 +70,7 @@ fn summary_lists_every_limit_with_its_probability() {
         );
     }
     assert!(
-        stdout.contains("limit of europe-2014 (high risk)")
+        stdout.contains("limit of us-2013 (high risk)")
             && stdout.contains("1. high risk, any 24 h"),
         "{stdout}"
     );
@@ -101,6 +120,7 @@ fn summary_lists_every_limit_with_its_probability() {
         r("min_brain_volume_index")
     );
     std::fs::remove_dir_all(&dir).ok();
+    std::fs::remove_file(&script).ok();
 }
 
 #[test]

@@ -27,7 +27,9 @@
 //!   re-exported from [`simulate`] too.
 //! * The result is a [`Trajectory`]: samples with derived labs
 //!   ([`Observation`]), sodium changes over trailing 24 h and 48 h, guideline
-//!   [`Flag`]s and a mass-balance ledger per species.
+//!   [`Flag`]s, the guideline goals judged ([`GoalResult`]), the
+//!   fall-below-start warning ([`BelowStart`]) and a mass-balance ledger
+//!   per species.
 //!
 //! ## Rooms
 //!
@@ -40,7 +42,7 @@
 //! | [`patient`], [`causes`], [`fluids`] | what the user describes: the patient, the cause of the disorder, the fluid library |
 //! | [`plan`] | the words of a plan: streams, actions, events, controllers |
 //! | [`simulate`] | the solver driver: schedule, diffsol problem, the run loop |
-//! | [`trajectory`], [`limits`] | results, derived series and guideline flags |
+//! | [`trajectory`], [`limits`], [`goals`] | results, derived series, guideline flags and goals |
 //! | [`scenario`] | Rhai scripts to plans, rules and expectations |
 //! | [`sweep`] | sweep specs, designs, parallel runs, result files, summaries |
 //! | [`validation`] | the dossier of published human data and its metrics |
@@ -77,6 +79,7 @@ pub mod dump;
 pub mod error;
 pub mod fluids;
 pub mod formulas;
+pub mod goals;
 pub mod limits;
 pub mod model;
 pub(crate) mod newton_lu;
@@ -99,7 +102,8 @@ pub mod validation;
 pub use body::{Body, Species, N_STATES_BODY, S};
 pub use error::{InputError, SimulationError};
 pub use fluids::{Fluid, FluidLibrary};
-pub use limits::{Flag, LimitChoice};
+pub use goals::{BelowStart, GoalResult, GoalStatus};
+pub use limits::{Flag, LimitChoice, Situation};
 pub use model::{Inputs, Model, Observation, StartBalance, Switches, WaterIntakeSource};
 pub use params::{Params, PARAMETERS};
 pub use patient::{Patient, ResolvedPatient};

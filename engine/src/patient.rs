@@ -29,11 +29,12 @@ pub const PATIENT_FIELDS: &[&str] = &[
     "albumin_g_l",
     "hematocrit",
     "onset",
+    "symptoms",
     "cause",
 ];
 
 /// The fields of [`PATIENT_FIELDS`] that hold a word, not a number.
-pub const TEXT_PATIENT_FIELDS: &[&str] = &["sex", "water_method", "onset", "cause"];
+pub const TEXT_PATIENT_FIELDS: &[&str] = &["sex", "water_method", "onset", "symptoms", "cause"];
 
 /// The fields of [`PATIENT_FIELDS`] that hold a number (a sweep can vary
 /// them).
@@ -91,6 +92,11 @@ pub struct Patient {
     /// "acute" (< 48 h: brain not adapted) or "chronic" (the default).
     #[serde(default)]
     pub onset: Option<String>,
+    /// Symptoms at the start: "none" (the default), "moderate" or
+    /// "severe" (decides which guideline goals apply; the model itself
+    /// does not use them).
+    #[serde(default)]
+    pub symptoms: Option<String>,
     /// What keeps sodium where it is (see [`crate::causes::Cause`]):
     /// none, hypovolemic, inappropriate_antidiuresis, reset_osmostat,
     /// low_solute_intake, primary_polydipsia, diuretic_induced,
@@ -116,6 +122,22 @@ pub enum Onset {
     Acute,
     /// 48 h or more: brain osmolytes adapted, brain volume normal.
     Chronic,
+}
+
+/// Symptoms of the disorder at the start, as the guidelines grade them
+/// (Spasovski et al. 2014: moderately severe, e.g. nausea without
+/// vomiting, confusion, headache; severe, e.g. vomiting, seizures,
+/// somnolence, coma; from memory). Only the guideline goals use them.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Symptoms {
+    /// None or mild (the default when not given).
+    #[default]
+    None,
+    /// Moderately severe.
+    Moderate,
+    /// Severe.
+    Severe,
 }
 
 /// A checked patient with every value in engine units.
@@ -147,6 +169,8 @@ pub struct ResolvedPatient {
     pub hematocrit: f64,
     /// Onset.
     pub onset: Onset,
+    /// Symptoms at the start.
+    pub symptoms: Symptoms,
     /// Cause.
     pub cause: crate::causes::Cause,
 }
@@ -322,6 +346,23 @@ impl Patient {
                 })
             }
         };
+        let symptoms = match self
+            .symptoms
+            .as_deref()
+            .map(|s| s.trim().to_ascii_lowercase())
+        {
+            None => Symptoms::None,
+            Some(s) if s == "none" => Symptoms::None,
+            Some(s) if s == "moderate" => Symptoms::Moderate,
+            Some(s) if s == "severe" => Symptoms::Severe,
+            Some(_) => {
+                return Err(InputError::BadChoice {
+                    field: "symptoms".into(),
+                    value: self.symptoms.clone().unwrap_or_default(),
+                    expected: "none, moderate, severe".into(),
+                })
+            }
+        };
         let cause = match &self.cause {
             Some(c) => crate::causes::Cause::parse(c)?,
             None => crate::causes::Cause::None,
@@ -341,6 +382,7 @@ impl Patient {
             albumin_g_l,
             hematocrit,
             onset,
+            symptoms,
         })
     }
 

@@ -1,9 +1,10 @@
 //! The result of a run: samples on a fixed grid with derived labs, sodium
-//! changes over trailing windows, guideline flags and the mass-balance
-//! ledger.
+//! changes over trailing windows, guideline flags, goals and the
+//! fall-below-start warning, and the mass-balance ledger.
 
 use crate::body::{Species, N_STATES};
-use crate::limits::{self, Flag, LimitChoice};
+use crate::goals::{self, BelowStart, GoalResult};
+use crate::limits::{self, Flag, LimitChoice, Situation};
 use crate::model::{Inputs, Observation};
 use serde::Serialize;
 
@@ -74,6 +75,12 @@ pub struct Trajectory {
     pub flags: Vec<Flag>,
     /// Guideline set used.
     pub limits: LimitChoice,
+    /// What decided which rules and goals apply (start, onset, symptoms).
+    pub situation: Situation,
+    /// Goals of the guideline set that apply, judged (not flags).
+    pub goals: Vec<GoalResult>,
+    /// Sodium fell back below its start during a hyponatremia correction.
+    pub below_start: Option<BelowStart>,
     /// Mass balance per species.
     pub balance: Vec<Balance>,
     /// Solver statistics.
@@ -138,15 +145,23 @@ pub fn trailing_changes(times: &[f64], values: &[f64], window_h: f64) -> Vec<f64
 }
 
 impl Trajectory {
-    /// Assemble the derived series from samples.
-    pub fn from_samples(samples: Vec<Sample>, limits: LimitChoice, stats: SolverStats) -> Self {
+    /// Assemble the derived series from samples; `situation` decides
+    /// which rules and goals of `limits` apply.
+    pub fn from_samples(
+        samples: Vec<Sample>,
+        limits: LimitChoice,
+        situation: Situation,
+        stats: SolverStats,
+    ) -> Self {
         let times: Vec<f64> = samples.iter().map(|s| s.time_h).collect();
         let na: Vec<f64> = samples.iter().map(|s| s.obs.na_mmol_l).collect();
         let na0 = na.first().copied().unwrap_or(f64::NAN);
         let since: Vec<f64> = na.iter().map(|x| x - na0).collect();
         let c24 = trailing_changes(&times, &na, 24.0);
         let c48 = trailing_changes(&times, &na, 48.0);
-        let flags = limits::check(&times, &na, &limits);
+        let flags = limits::check(&times, &na, &limits, &situation);
+        let goal_results = goals::check(&times, &na, &limits, &situation);
+        let below_start = goals::below_start(&times, &na, &situation);
         let balance = match (samples.first(), samples.last()) {
             (Some(first), Some(last)) if first.y.len() == N_STATES => Species::ALL
                 .iter()
@@ -175,6 +190,9 @@ impl Trajectory {
             na_change_48h: c48,
             flags,
             limits,
+            situation,
+            goals: goal_results,
+            below_start,
             balance,
             stats,
         }
@@ -228,6 +246,9 @@ impl Trajectory {
             to_h: None,
             severity: limits::Severity::Caution,
             label: String::new(),
+            source: String::new(),
+            start: limits::StartDisorder::Any,
+            onset: limits::OnsetCondition::Any,
         };
         limits::window_changes(&times, &na, &rule)
             .into_iter()

@@ -206,13 +206,14 @@ pub fn render(report: &Report) -> String {
         }
         out.push_str("</table>\n");
     }
+    goals_section(&mut out, s);
 
     // Sodium chart first.
     let mut charts = report.charts.iter();
     if let Some(c) = charts.next() {
         let _ = write!(
             out,
-            "<figure>{}<figcaption>{}. The shaded band is where serum sodium stays within the limits of {} for a course moving steadily from the start; triangles mark where a rule was first crossed.</figcaption></figure>\n",
+            "<figure>{}<figcaption>{}. The shaded band is where serum sodium stays within the limits of {} for a course moving steadily from the start; triangles mark where a rule was first crossed; circles mark each goal at its time and level (hollow when missed).</figcaption></figure>\n",
             scalable(&c.svg),
             escape(&c.title),
             escape(&s.guideline.id)
@@ -278,12 +279,16 @@ pub fn render(report: &Report) -> String {
     }
     let _ = write!(
         out,
-        "<p>Guideline set <b>{}</b>: {}.</p>\n<ul>\n",
+        "<p>Guideline set <b>{}</b>: {}; the rules and goals for {}.</p>\n<ul>\n",
         escape(&s.guideline.id),
-        escape(&s.guideline.source)
+        escape(&s.guideline.source),
+        escape(&s.guideline.applies_to)
     );
     for r in &s.guideline.rules {
         let _ = write!(out, "<li>{}</li>\n", escape(r));
+    }
+    for g in &s.guideline.goals {
+        let _ = write!(out, "<li>goal: {}</li>\n", escape(g));
     }
     out.push_str("</ul></section></div>\n");
 
@@ -335,4 +340,48 @@ pub fn render(report: &Report) -> String {
         s.samples
     );
     out
+}
+
+/// A line per goal (met, missed, not judged) and the fall-below-start
+/// warning, under the flags. Goals are no limits: a missed one is shown in
+/// the warning colour of a caution, not as a crossing.
+fn goals_section(out: &mut String, s: &crate::summary::Summary) {
+    if s.goals.is_empty() && s.below_start.is_none() {
+        return;
+    }
+    out.push_str("<h3 id=\"goals\">Goals</h3>\n<ul>\n");
+    for g in &s.goals {
+        let (class, word) = match g.status.as_str() {
+            "met" => ("pass", "met"),
+            "missed" => ("fail", "missed"),
+            _ => ("", "not judged (the run ended first)"),
+        };
+        let reached = match g.reached_h {
+            Some(t) if g.status == "missed" => format!("; reached at {} h", sig(t, 4)),
+            None if g.status == "missed" => "; not reached in the run".to_string(),
+            _ => String::new(),
+        };
+        let _ = write!(
+            out,
+            "<li><span class=\"{class}\">{word}</span>: {} at least {} mmol/L by {} h ({}); change {} mmol/L at {} h{reached}. <small>{}</small></li>\n",
+            escape(&g.direction),
+            sig(g.min_mmol_l, 4),
+            sig(g.by_h, 4),
+            escape(&g.goal),
+            fixed(g.change_mmol_l, 1),
+            sig(g.time_h, 4),
+            escape(&g.source)
+        );
+    }
+    if let Some(b) = &s.below_start {
+        let _ = write!(
+            out,
+            "<li><span class=\"fail\">warning</span>: serum sodium fell below its start of {} mmol/L at {} h; lowest {} mmol/L at {} h.</li>\n",
+            fixed(b.start_mmol_l, 1),
+            sig(b.first_time_h, 4),
+            fixed(b.lowest_mmol_l, 1),
+            sig(b.lowest_time_h, 4)
+        );
+    }
+    out.push_str("</ul>\n");
 }

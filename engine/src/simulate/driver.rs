@@ -233,6 +233,7 @@ impl Simulation {
         Ok(Trajectory::from_samples(
             samples,
             plan.limits.clone(),
+            crate::limits::Situation::of(&self.patient),
             stats,
         ))
     }

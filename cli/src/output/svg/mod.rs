@@ -54,6 +54,7 @@ const SODIUM: RGBColor = RGBColor(22, 84, 128);
 const CEILING: RGBColor = RGBColor(189, 62, 48);
 const PERMITTED: RGBColor = RGBColor(126, 184, 166);
 const FLAG: RGBColor = RGBColor(222, 137, 18);
+const GOAL: RGBColor = RGBColor(38, 118, 74);
 const CELLS: RGBColor = RGBColor(94, 114, 128);
 const RED_CELLS: RGBColor = RGBColor(176, 58, 62);
 const BRAIN: RGBColor = RGBColor(158, 132, 194);

@@ -1,13 +1,14 @@
 //! The serum sodium chart: the simulated course, the corridor the
 //! guideline limits allow for a course moving steadily from the start,
-//! and a marker where each rule was first crossed.
+//! a marker where each rule was first crossed, and one per goal judged.
 
 use super::frame::{canvas, err, legend, padded, picks, series, time_axes, x_range, Size};
-use super::{CEILING, FLAG, FONT, PERMITTED, SODIUM, WIDTH};
+use super::{CEILING, FLAG, FONT, GOAL, PERMITTED, SODIUM, WIDTH};
 use crate::input::RunInput;
 use crate::summary::Summary;
 use anyhow::Result;
 use plotters::prelude::*;
+use tidewater::goals::GoalStatus;
 use tidewater::limits::{Direction, Severity};
 use tidewater::trajectory::interpolate;
 use tidewater::Trajectory;
@@ -26,14 +27,15 @@ fn value_at(times: &[f64], values: &[f64], t: f64) -> f64 {
 /// Highest (for rises) or lowest (for falls) serum sodium the guideline
 /// limits allow at each sample time, for a course that moves steadily in
 /// one direction from the start: `c(t) = min over rules of
-/// c(max(from, t − window)) + max_change`. Infinite where no rule applies.
+/// c(max(from, t − window)) + max_change`, over the rules that apply to
+/// the run (start disorder, onset). Infinite where no rule applies.
 pub fn corridor(traj: &Trajectory, direction: Direction) -> Vec<f64> {
     let times = traj.times();
     let na0 = traj.samples[0].obs.na_mmol_l;
     let rules: Vec<_> = traj
         .limits
-        .rules()
-        .iter()
+        .applicable_rules(&traj.situation)
+        .into_iter()
         .filter(|r| r.direction == direction && r.severity == Severity::Limit)
         .collect();
     let mut c = vec![0.0; times.len()];
@@ -182,6 +184,48 @@ pub fn chart(input: &RunInput, summary: &Summary) -> Result<String> {
             if first {
                 anno.label("Guideline flag")
                     .legend(|(x, y)| TriangleMarker::new((x + 11, y), 7, FLAG.filled()));
+                first = false;
+            }
+        }
+        // Goals: a circle at the level each asks for, at its time (filled
+        // when met, hollow when missed); goals not judged are left out.
+        let mut first = true;
+        for g in traj
+            .goals
+            .iter()
+            .filter(|g| g.status != GoalStatus::RunTooShort)
+        {
+            let sign = match g.goal.direction {
+                Direction::Rise => 1.0,
+                Direction::Fall => -1.0,
+            };
+            let level = (all_na[0] + sign * g.goal.min_mmol_l).clamp(y.start, y.end);
+            let met = g.status == GoalStatus::Met;
+            let style = if met {
+                GOAL.filled()
+            } else {
+                GOAL.stroke_width(2)
+            };
+            let anno = chart
+                .draw_series(vec![
+                    Circle::new((g.time_h, level), 6, style).into_dyn(),
+                    Text::new(
+                        format!(
+                            "goal {}{} by {} h: {}",
+                            if sign > 0.0 { "+" } else { "-" },
+                            crate::format::sig(g.goal.min_mmol_l, 3),
+                            crate::format::sig(g.goal.by_h, 3),
+                            if met { "met" } else { "missed" }
+                        ),
+                        (g.time_h, level),
+                        (FONT, 12).into_font().color(&GOAL),
+                    )
+                    .into_dyn(),
+                ])
+                .map_err(err)?;
+            if first {
+                anno.label("Guideline goal (hollow: missed)")
+                    .legend(|(x, y)| Circle::new((x + 11, y), 5, GOAL.filled()));
                 first = false;
             }
         }

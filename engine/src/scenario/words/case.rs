@@ -87,6 +87,7 @@ fn patient_from_map(ctx: &NativeCallContext, map: &Map, source: &str) -> Res<Pat
             "albumin_g_l" => p.albumin_g_l = Some(num()?),
             "hematocrit" => p.hematocrit = Some(num()?),
             "onset" => p.onset = Some(text()?),
+            "symptoms" => p.symptoms = Some(text()?),
             "cause" => p.cause = Some(text()?),
             other => {
                 let hint =

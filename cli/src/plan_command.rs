@@ -157,7 +157,6 @@ fn run_uncertainty(
         &request.fluid,
         answer.outcome.dose,
         request.goal,
-        eval.plan().limits.rules(),
         args.risk,
         cap,
         threads,

@@ -4,7 +4,6 @@
 use super::root::{brent, Tolerance};
 use super::{Dose, Evaluator, Form, Goal, Outcome, PlanError, Request};
 use crate::formulas;
-use crate::limits::Rule;
 use serde::Serialize;
 
 /// What the planner concluded.
@@ -108,7 +107,6 @@ impl Constraint {
 pub(crate) struct Search<'e, E: Evaluator> {
     pub eval: &'e mut E,
     pub request: &'e Request,
-    pub rules: Vec<Rule>,
     /// Streams every candidate carries (a desmopressin clamp).
     pub fixed: Vec<(f64, crate::plan::Stream)>,
     pub constraint: Constraint,
@@ -134,7 +132,6 @@ impl<E: Evaluator> Search<'_, E> {
         Ok(Outcome::from_run(
             dose,
             &traj,
-            &self.rules,
             self.request.goal.by_h,
             from_h,
         ))
@@ -196,11 +193,9 @@ fn settable(amount: f64) -> f64 {
 /// Find the dose for `request` (see the [module](super) docs).
 pub fn find_dose<E: Evaluator>(eval: &mut E, request: &Request) -> Result<Answer, PlanError> {
     check_request(eval, request)?;
-    let rules = eval.plan().limits.rules().to_vec();
     let search = Search {
         eval,
         request,
-        rules,
         fixed: Vec::new(),
         constraint: Constraint::Limits,
         runs: 0,

@@ -80,16 +80,11 @@ pub struct Outcome {
 }
 
 impl Outcome {
-    /// Read the outcome of `dose` off its run; `rules` are the rules in
-    /// force and `by_h` the goal's time.
+    /// Read the outcome of `dose` off its run (the rules are those of the
+    /// run's guideline set that apply to its start); `by_h` is the goal's
+    /// time.
     /// `after_h` starts the window of [`Outcome::lowest_after_mmol_l`].
-    pub fn from_run(
-        dose: Dose,
-        traj: &Trajectory,
-        rules: &[Rule],
-        by_h: f64,
-        after_h: f64,
-    ) -> Outcome {
+    pub fn from_run(dose: Dose, traj: &Trajectory, by_h: f64, after_h: f64) -> Outcome {
         let times = traj.times();
         let na = traj.sodium();
         let na0 = na.first().copied().unwrap_or(f64::NAN);
@@ -136,7 +131,12 @@ impl Outcome {
                 .filter(|(t, _)| **t >= after_h - 1e-9)
                 .map(|(_, v)| *v)
                 .fold(f64::INFINITY, f64::min),
-            margins: rules.iter().map(|r| margin(&times, &na, r)).collect(),
+            margins: traj
+                .limits
+                .applicable_rules(&traj.situation)
+                .into_iter()
+                .map(|r| margin(&times, &na, r))
+                .collect(),
         }
     }
 
@@ -200,8 +200,13 @@ mod tests {
         let eu = limits::choose("europe-2014", false).unwrap();
         let t: Vec<f64> = (0..=48).map(|h| h as f64).collect();
         let na: Vec<f64> = t.iter().map(|h| 115.0 + 11.0 / 24.0 * h).collect();
-        let flags = limits::check(&t, &na, &eu);
-        for rule in eu.rules() {
+        let situation = limits::Situation {
+            start_na_mmol_l: 115.0,
+            onset: crate::patient::Onset::Chronic,
+            symptoms: crate::patient::Symptoms::default(),
+        };
+        let flags = limits::check(&t, &na, &eu, &situation);
+        for rule in eu.applicable_rules(&situation) {
             let m = margin(&t, &na, rule);
             let flagged = flags.iter().any(|f| &f.rule == rule);
             assert_eq!(m.crossed(), flagged, "{m:?}");

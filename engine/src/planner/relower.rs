@@ -81,11 +81,16 @@ pub struct Relowering {
 pub fn relower<E: Evaluator>(eval: &mut E, req: &RelowerRequest) -> Result<Relowering, PlanError> {
     let plan = eval.plan().clone();
     check(req, plan.duration_h)?;
-    let rules = plan.limits.rules().to_vec();
     let background = eval.run(&[], &[]).map_err(|message| PlanError::Run {
         dose: "the scenario alone".into(),
         message,
     })?;
+    let rules: Vec<Rule> = background
+        .limits
+        .applicable_rules(&background.situation)
+        .into_iter()
+        .cloned()
+        .collect();
     let times = background.times();
     let na = background.sodium();
     let na0 = na[0];
@@ -129,7 +134,6 @@ pub fn relower<E: Evaluator>(eval: &mut E, req: &RelowerRequest) -> Result<Relow
     let search = Search {
         eval,
         request: &request,
-        rules: rules.clone(),
         fixed: fixed.clone(),
         constraint: Constraint::Floor {
             from_h: req.from_h,

@@ -20,7 +20,7 @@
 
 use super::{Dose, Evaluator, Goal, Outcome, PlanError};
 use crate::fluids::Fluid;
-use crate::limits::{Rule, Severity};
+use crate::limits::Severity;
 use crate::plan::Plan;
 use crate::sweep::{Design, Distribution, SweepParameter, SweepSpec};
 use serde::Serialize;
@@ -141,14 +141,12 @@ pub struct Uncertainty {
 pub type MakeEvaluator<'a> = dyn Fn() -> Result<Box<dyn Evaluator>, String> + Sync + 'a;
 
 /// Run the dose (and the range search) over the members of `spec`.
-#[allow(clippy::too_many_arguments)]
 pub fn uncertainty(
     make: &MakeEvaluator,
     spec: &SweepSpec,
     fluid: &Fluid,
     dose: Dose,
     goal: Goal,
-    rules: &[Rule],
     risk: f64,
     cap: f64,
     threads: usize,
@@ -173,7 +171,6 @@ pub fn uncertainty(
             fluid,
             dose.with_amount(amount),
             goal,
-            rules,
             threads,
         )
     };
@@ -284,7 +281,6 @@ fn spread_at(
     fluid: &Fluid,
     dose: Dose,
     goal: Goal,
-    rules: &[Rule],
     threads: usize,
 ) -> Result<Spread, PlanError> {
     let streams = dose.streams(fluid)?;
@@ -303,7 +299,7 @@ fn spread_at(
                         }
                         out.push(
                             eval.run(&streams, &members[i])
-                                .map(|t| Outcome::from_run(dose, &t, rules, goal.by_h, 0.0)),
+                                .map(|t| Outcome::from_run(dose, &t, goal.by_h, 0.0)),
                         );
                     }
                 })
@@ -348,14 +344,24 @@ fn spread_at(
             count as f64 / ran as f64
         }
     };
-    let p_rule = rules
-        .iter()
-        .enumerate()
-        .map(|(k, r)| {
-            (
-                r.label.clone(),
-                share(outcomes.iter().filter(|o| o.margins[k].crossed()).count()),
-            )
+    // By label, in the order the rules first appear (members share their
+    // start, so they share their rules unless a spec varies the start).
+    let mut labels: Vec<String> = Vec::new();
+    for o in &outcomes {
+        for m in &o.margins {
+            if !labels.contains(&m.label) {
+                labels.push(m.label.clone());
+            }
+        }
+    }
+    let p_rule = labels
+        .into_iter()
+        .map(|label| {
+            let n = outcomes
+                .iter()
+                .filter(|o| o.margins.iter().any(|m| m.label == label && m.crossed()))
+                .count();
+            (label, share(n))
         })
         .collect();
     let any = outcomes

@@ -114,6 +114,9 @@ pub struct Summary {
     pub flags: Vec<FlagSummary>,
     /// Mass balance per species.
     pub mass_balance: Vec<BalanceSummary>,
+    /// The Adrogué–Madias prediction for the same infusions and the
+    /// attribution of the difference (none for an empty run).
+    pub bedside_formula: Option<crate::bedside_summary::FormulaSummary>,
     /// Solver statistics.
     pub solver: tidewater::SolverStats,
     /// Expectation results.
@@ -226,6 +229,7 @@ impl Summary {
                     max_relative_residual: round_sig(b.max_relative_residual, 3),
                 })
                 .collect(),
+            bedside_formula: crate::bedside_summary::FormulaSummary::of(traj),
             solver: traj.stats,
             expectations: input.expectations.clone(),
             all_expectations_hold: input.all_expectations_hold(),

@@ -15,6 +15,7 @@
 //! * `pool.rs`: the ordered worker pool of `check` and `sweep`;
 //!   `progress.rs`: progress bars; `format.rs`: numbers as text.
 
+mod bedside_summary;
 mod check;
 mod cli;
 mod commands;

@@ -147,18 +147,12 @@ fn run_uncertainty(
     let threads = args
         .threads
         .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()));
-    let cap = match request.form {
-        Form::Rate { max_rate_ml_h, .. } => max_rate_ml_h,
-        Form::Bolus { max_bolus_ml, .. } => max_bolus_ml,
-    };
     uncertainty::uncertainty(
         &make,
         &spec,
-        &request.fluid,
+        request,
         answer.outcome.dose,
-        request.goal,
         args.risk,
-        cap,
         threads,
     )
     .map_err(|e| anyhow!("{e}"))
@@ -228,6 +222,9 @@ fn print_answer(a: &Answer, title: &str, style: Style) {
         "  bedside formula: Adrogué–Madias (closed body, TBW {:.1} L) predicts {:+.1} mmol/L by {} h for this volume; the body {:+.1}",
         a.total_body_water_l, a.adrogue_madias_change_mmol_l, g.by_h, a.outcome.na_change_at_goal_mmol_l
     );
+    if let Some(g) = &a.outcome.bedside {
+        println!("  {}", crate::bedside_summary::sentence(g));
+    }
     println!("  found in {} runs of the full model", a.evaluations);
 }
 

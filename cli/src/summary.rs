@@ -162,6 +162,9 @@ pub struct Summary {
     pub below_start: Option<BelowStartSummary>,
     /// Mass balance per species.
     pub mass_balance: Vec<BalanceSummary>,
+    /// The Adrogué–Madias prediction for the same infusions and the
+    /// attribution of the difference (none for an empty run).
+    pub bedside_formula: Option<crate::bedside_summary::FormulaSummary>,
     /// Solver statistics.
     pub solver: tidewater::SolverStats,
     /// Expectation results.
@@ -347,6 +350,7 @@ impl Summary {
                     max_relative_residual: round_sig(b.max_relative_residual, 3),
                 })
                 .collect(),
+            bedside_formula: crate::bedside_summary::FormulaSummary::of(traj),
             solver: traj.stats,
             expectations: input.expectations.clone(),
             all_expectations_hold: input.all_expectations_hold(),

@@ -106,13 +106,26 @@ pub enum S {
     OutAlbumin,
     /// Cumulative urine volume, L.
     UrineL,
+    /// Cumulative sodium in urine, mmol.
+    UrineNa,
+    /// Cumulative potassium in urine, mmol.
+    UrineK,
+    /// Cumulative electrolyte-free water in urine (the integral of the
+    /// electrolyte-free water clearance `Q_u·(1 − (U_Na + U_K)/P_Na)`), L.
+    UrineFreeWaterL,
+    /// Cumulative water given by vein (infusions and boluses), L.
+    InfusedWaterL,
+    /// Cumulative sodium given by vein, mmol.
+    InfusedNa,
+    /// Cumulative potassium given by vein, mmol.
+    InfusedK,
 }
 
 /// Number of entries that describe the body (the rest is the ledger).
 pub const N_STATES_BODY: usize = S::InWater as usize;
 
 /// Number of entries in the state vector.
-pub const N_STATES: usize = S::UrineL as usize + 1;
+pub const N_STATES: usize = S::InfusedK as usize + 1;
 
 /// Name of each state for messages, in layout order.
 pub const STATE_NAMES: [&str; N_STATES] = [
@@ -162,6 +175,12 @@ pub const STATE_NAMES: [&str; N_STATES] = [
     "cumulative glucose out",
     "cumulative albumin out",
     "cumulative urine",
+    "cumulative urine sodium",
+    "cumulative urine potassium",
+    "cumulative electrolyte-free urine water",
+    "cumulative infused water",
+    "cumulative infused sodium",
+    "cumulative infused potassium",
 ];
 
 /// The species the ledger balances.

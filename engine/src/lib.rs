@@ -47,6 +47,7 @@
 //! | [`sweep`] | sweep specs, designs, parallel runs, result files, summaries |
 //! | [`validation`] | the dossier of published human data and its metrics |
 //! | [`dump`], [`reference`](mod@reference), [`formulas`] | the model dump for independent implementations, the reference case, bedside formulas |
+//! | [`bedside`] | the Adrogué–Madias course of a run's infusions and the attribution of the body's departure from it |
 //!
 //! ```
 //! use tidewater::{FluidLibrary, Patient, Plan, Simulation, Stream};
@@ -73,6 +74,7 @@
 
 #![warn(missing_docs)]
 
+pub mod bedside;
 pub mod body;
 pub mod causes;
 pub mod dump;

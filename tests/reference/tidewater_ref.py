@@ -35,7 +35,7 @@ import numpy as np
 from scipy.integrate import solve_ivp
 
 FORMAT = "tidewater-model-dump/1"
-N_STATES = 46
+N_STATES = 52
 LN2 = math.log(2.0)
 
 # Names the equations page writes without a `params.`/`calibration.` prefix
@@ -390,6 +390,14 @@ class Model:
         dy[43] = u["glucose_out_mmol_h"] + q["E_G"] + q["D_g"] + b * q["G_p"]
         dy[44] = u["albumin_out_g_h"] + b * q["A_p"]
         dy[45] = V_u
+        # Urine sodium and potassium, electrolyte-free urine water, and
+        # what was given by vein (46-51).
+        dy[46] = q["E_Na"]
+        dy[47] = q["E_K"]
+        dy[48] = V_u - (q["E_Na"] + q["E_K"]) / q["na_p"]
+        dy[49] = u["water_in_l_h"]
+        dy[50] = u["na_in_mmol_h"]
+        dy[51] = u["k_in_mmol_h"]
         return dy
 
     # -- observations -----------------------------------------------------
@@ -461,6 +469,9 @@ class Model:
             s[33 + j] = max(abs(content[species]), 1e-3)
             s[39 + j] = max(abs(content[species]), 1e-3)
         s[45] = max(abs(content["water"]), 1e-3)
+        for j, species in [(46, "na"), (47, "k"), (48, "water"), (49, "water"),
+                           (50, "na"), (51, "k")]:
+            s[j] = max(abs(content[species]), 1e-3)
         return s
 
     def simulate(self, method: str = "BDF", rtol: float = 1e-10,

@@ -178,6 +178,15 @@ pub fn render(report: &Report) -> String {
     }
     out.push_str("</section>\n");
 
+    // The bedside formula beside the body.
+    if let Some(f) = &s.bedside_formula {
+        let _ = write!(
+            out,
+            "<h2 id=\"formula\">The bedside formula beside the body</h2>\n<p>{}</p>\n",
+            escape(&f.sentence)
+        );
+    }
+
     // Flags.
     out.push_str("<h2 id=\"flags\">Guideline flags</h2>\n");
     if s.flags.is_empty() {
@@ -213,7 +222,8 @@ pub fn render(report: &Report) -> String {
     if let Some(c) = charts.next() {
         let _ = write!(
             out,
-            "<figure>{}<figcaption>{}. The shaded band is where serum sodium stays within the limits of {} for a course moving steadily from the start; triangles mark where a rule was first crossed; circles mark each goal at its time and level (hollow when missed).</figcaption></figure>\n",
+            "<figure>{}<figcaption>{}. The shaded band is where serum sodium stays within the limits of {} for a course moving steadily from the start; the dashed line is the Adrogué–Madias prediction for the same infusions in a closed body; triangles mark where a rule was first crossed; circles mark each goal at its time and level (hollow when missed).</figcaption></figure>
+",
             scalable(&c.svg),
             escape(&c.title),
             escape(&s.guideline.id)

@@ -190,5 +190,17 @@ impl Model {
         );
         set(S::OutAlbumin, u.albumin_out_g_h + bl_alb);
         set(S::UrineL, f.urine_l_h);
+        set(S::UrineNa, f.urine_na_mmol_h);
+        set(S::UrineK, f.urine_k_mmol_h);
+        // Electrolyte-free water clearance, L/h (Rose, Am J Med 1986):
+        // urine flow less the water that would carry its sodium and
+        // potassium at the plasma sodium concentration.
+        set(
+            S::UrineFreeWaterL,
+            f.urine_l_h - (f.urine_na_mmol_h + f.urine_k_mmol_h) / conc(s(S::NaPlasma), v_p),
+        );
+        set(S::InfusedWaterL, u.water_in_l_h);
+        set(S::InfusedNa, u.na_in_mmol_h);
+        set(S::InfusedK, u.k_in_mmol_h);
     }
 }

@@ -77,6 +77,10 @@ pub struct Outcome {
     pub lowest_after_mmol_l: f64,
     /// Margin to every rule in force.
     pub margins: Vec<Margin>,
+    /// The Adrogué–Madias prediction for everything given by vein by the
+    /// goal's time (the background's infusions too) and the attribution
+    /// of the body's difference from it ([`crate::bedside`]).
+    pub bedside: Option<crate::bedside::GapAttribution>,
 }
 
 impl Outcome {
@@ -137,6 +141,7 @@ impl Outcome {
                 .into_iter()
                 .map(|r| margin(&times, &na, r))
                 .collect(),
+            bedside: crate::bedside::attribute_gap(traj, by_h),
         }
     }
 

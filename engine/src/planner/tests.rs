@@ -229,3 +229,39 @@ fn bad_requests_name_the_option() {
     let e = find_dose(&mut eval, &rate_request(6.0, 4.0, 24.0)).unwrap_err();
     assert!(e.to_string().contains("goal"), "{e}");
 }
+
+#[test]
+fn uncertainty_counts_members_and_bounds_the_dose_range() {
+    let mut eval = evaluator(SIAD_MAN);
+    let request = rate_request(6.0, 8.0, 24.0);
+    let answer = find_dose(&mut eval, &request).unwrap();
+    let spec = uncertainty::default_unknowns(eval.plan(), 24).unwrap();
+    assert_eq!(spec.member_count(), 24);
+    // The water fraction is centred on the patient's own.
+    let own = answer.total_body_water_l / 82.0;
+    let wf = spec.member(0);
+    assert!((wf.values[0] - own).abs() < 0.25 * own, "{wf:?}");
+    let make = || -> Result<Box<dyn Evaluator>, String> {
+        Ok(Box::new(ScenarioEvaluator {
+            scenario: Scenario::from_source("plan.rhai", SIAD_MAN, Path::new("."))
+                .map_err(|e| e.to_string())?,
+            rtol: Some(1e-4),
+        }))
+    };
+    let u =
+        uncertainty::uncertainty(&make, &spec, &request, answer.outcome.dose, 0.1, 2).unwrap();
+    let s = &u.at_dose;
+    assert_eq!(s.members + s.failed, 24);
+    for p in [s.p_any_limit, s.p_below_goal, s.p_above_goal] {
+        assert!((0.0..=1.0).contains(&p), "{s:?}");
+    }
+    let [p5, p50, p95] = s.change_percentiles_mmol_l;
+    assert!(p5 <= p50 && p50 <= p95, "{s:?}");
+    // The median member lands near the point answer (the unknowns are
+    // centred on the patient).
+    assert!((p50 - answer.outcome.na_change_at_goal_mmol_l).abs() < 1.5, "{s:?}");
+    if let Some(h) = u.highest_amount_within_risk {
+        assert!(h >= 0.0 && h <= 500.0);
+    }
+    assert!(u.runs >= 24);
+}

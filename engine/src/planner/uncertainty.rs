@@ -18,7 +18,7 @@
 //! A sweep spec (`--unknowns`) replaces the whole set: its parameters,
 //! design and seed are used; its `scenario` and `outputs` are not.
 
-use super::{Dose, Evaluator, Goal, Outcome, PlanError};
+use super::{Dose, Evaluator, Form, Goal, Outcome, PlanError, Request};
 use crate::fluids::Fluid;
 use crate::limits::Severity;
 use crate::plan::Plan;
@@ -140,17 +140,21 @@ pub struct Uncertainty {
 /// Makes one evaluator per worker thread.
 pub type MakeEvaluator<'a> = dyn Fn() -> Result<Box<dyn Evaluator>, String> + Sync + 'a;
 
-/// Run the dose (and the range search) over the members of `spec`.
+/// Run `dose` of `request` (and the range search up to the request's
+/// largest rate or bolus) over the members of `spec`.
 pub fn uncertainty(
     make: &MakeEvaluator,
     spec: &SweepSpec,
-    fluid: &Fluid,
+    request: &Request,
     dose: Dose,
-    goal: Goal,
     risk: f64,
-    cap: f64,
     threads: usize,
 ) -> Result<Uncertainty, PlanError> {
+    let (fluid, goal) = (&request.fluid, request.goal);
+    let cap = match request.form {
+        Form::Rate { max_rate_ml_h, .. } => max_rate_ml_h,
+        Form::Bolus { max_bolus_ml, .. } => max_bolus_ml,
+    };
     let n = spec.member_count();
     let members: Vec<Vec<(String, f64)>> = (0..n)
         .map(|i| {

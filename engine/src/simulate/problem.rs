@@ -106,7 +106,20 @@ pub(super) fn build_problem(
         scale[o as usize] = c;
     }
     let water = crate::body::Species::Water.content(y0);
-    scale[crate::body::S::UrineL as usize] = water;
+    let sodium = crate::body::Species::Sodium.content(y0);
+    let potassium = crate::body::Species::Potassium.content(y0);
+    {
+        use crate::body::S;
+        for s in [S::UrineL, S::UrineFreeWaterL, S::InfusedWaterL] {
+            scale[s as usize] = water;
+        }
+        for s in [S::UrineNa, S::InfusedNa] {
+            scale[s as usize] = sodium;
+        }
+        for s in [S::UrineK, S::InfusedK] {
+            scale[s as usize] = potassium;
+        }
+    }
     // A thousandth of what the species holds in the body.
     scale_transit_pools(y0, &mut scale, 1e-3);
     scale[crate::body::S::BrainOsmolytes as usize] =

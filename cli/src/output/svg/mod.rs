@@ -65,6 +65,7 @@ const URINE_OSM: RGBColor = RGBColor(88, 62, 138);
 const INTAKE: RGBColor = RGBColor(38, 118, 92);
 const OUTPUT: RGBColor = RGBColor(198, 92, 44);
 const NET: RGBColor = RGBColor(110, 110, 120);
+const FORMULA: RGBColor = RGBColor(72, 60, 50);
 
 /// Width of a run's charts, px.
 const WIDTH: u32 = 920;

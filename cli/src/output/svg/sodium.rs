@@ -1,9 +1,11 @@
 //! The serum sodium chart: the simulated course, the corridor the
 //! guideline limits allow for a course moving steadily from the start,
-//! a marker where each rule was first crossed, and one per goal judged.
+//! the Adrogué–Madias prediction for the same infusions (a closed body,
+//! dashed), a marker where each rule was first crossed, and one per goal
+//! judged.
 
 use super::frame::{canvas, err, legend, padded, picks, series, time_axes, x_range, Size};
-use super::{CEILING, FLAG, FONT, GOAL, PERMITTED, SODIUM, WIDTH};
+use super::{CEILING, FLAG, FONT, FORMULA, GOAL, PERMITTED, SODIUM, WIDTH};
 use crate::input::RunInput;
 use crate::summary::Summary;
 use anyhow::Result;
@@ -81,6 +83,14 @@ pub fn chart(input: &RunInput, summary: &Summary) -> Result<String> {
     let bound = corridor(traj, direction);
     let times = traj.times();
     let (mut lo, mut hi) = (summary.sodium.min.mmol_l, summary.sodium.max.mmol_l);
+    let formula: Vec<f64> = tidewater::bedside::formula_course(traj)
+        .iter()
+        .map(|d| traj.samples[0].obs.na_mmol_l + d)
+        .collect();
+    for f in &formula {
+        lo = lo.min(*f);
+        hi = hi.max(*f);
+    }
     let finite_bound: Vec<f64> = bound.iter().copied().filter(|b| b.is_finite()).collect();
     let reach = 25.0;
     for b in &finite_bound {
@@ -152,6 +162,23 @@ pub fn chart(input: &RunInput, summary: &Summary) -> Result<String> {
             .map_err(err)?
             .label("Serum sodium (simulated)")
             .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 22, y)], SODIUM.stroke_width(3)));
+        chart
+            .draw_series(DashedLineSeries::new(
+                picks_idx.iter().map(|&j| (times[j], formula[j])),
+                8,
+                5,
+                FORMULA.stroke_width(2),
+            ))
+            .map_err(err)?
+            .label("Adrogué–Madias (closed body)")
+            .legend(|(x, y)| {
+                plotters::element::DashedPathElement::new(
+                    vec![(x, y), (x + 22, y)],
+                    6,
+                    3,
+                    FORMULA.stroke_width(2),
+                )
+            });
 
         // Flags: a marker where each rule was first crossed.
         let all_na = traj.sodium();

@@ -222,6 +222,12 @@ fn print_answer(a: &Answer, title: &str, style: Style) {
         "  bedside formula: Adrogué–Madias (closed body, TBW {:.1} L) predicts {:+.1} mmol/L by {} h for this volume; the body {:+.1}",
         a.total_body_water_l, a.adrogue_madias_change_mmol_l, g.by_h, a.outcome.na_change_at_goal_mmol_l
     );
+    if let Some(d) = a.free_water_deficit_l {
+        println!(
+            "  free-water deficit TBW·(Na/140 − 1): {d:.1} L; the dose gives {:.2} L of free water (against isotonic saline)",
+            a.dose_free_water_l
+        );
+    }
     if let Some(g) = &a.outcome.bedside {
         println!("  {}", crate::bedside_summary::sentence(g));
     }

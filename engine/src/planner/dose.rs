@@ -43,6 +43,12 @@ pub struct Answer {
     pub adrogue_madias_change_mmol_l: f64,
     /// Starting total body water used by the formula, L.
     pub total_body_water_l: f64,
+    /// For a hypernatremic start (above 145 mmol/L): the free-water
+    /// deficit `TBW·(Na/140 − 1)`, L (common practice), for comparison.
+    pub free_water_deficit_l: Option<f64>,
+    /// Free water of the dose relative to isotonic saline,
+    /// `V·(1 − (Na+K)/154)`, L (common practice).
+    pub dose_free_water_l: f64,
     /// How far inside its constraint (the limits, or a re-lowering's
     /// floor) the dose stays, mmol/L.
     pub constraint_margin_mmol_l: f64,
@@ -56,6 +62,11 @@ impl Answer {
         matches!(self.verdict, Verdict::Met { .. })
     }
 }
+
+/// Hypernatremia: serum sodium above 145 mmol/L (common practice).
+const HYPERNATREMIA_ABOVE: f64 = 145.0;
+/// Sodium of isotonic (0.9 %) saline, mmol/L (common practice).
+const ISOTONIC_SALINE_NA: f64 = 154.0;
 
 /// Tolerance on the change at the goal's time, mmol/L: a tenth of the
 /// laboratory's 1 mmol/L resolution (common practice).
@@ -230,6 +241,8 @@ pub(crate) fn solve<E: Evaluator>(mut search: Search<E>) -> Result<Answer, PlanE
     let tbw = background.total_body_water_start_l;
     let answer = |search: &Search<E>, outcome: Outcome, verdict: Verdict| {
         let constraint_margin_mmol_l = search.margin(&outcome);
+        let dose_free_water_l = outcome.volume_ml / 1000.0
+            * (1.0 - (request.fluid.na + request.fluid.k) / ISOTONIC_SALINE_NA);
         let am = adrogue_madias_for(&outcome.dose, &request.fluid, &background, tbw, goal.by_h);
         Answer {
             fluid: request.fluid.id.clone(),
@@ -240,6 +253,9 @@ pub(crate) fn solve<E: Evaluator>(mut search: Search<E>) -> Result<Answer, PlanE
             adrogue_madias_change_mmol_l: am,
             total_body_water_l: tbw,
             constraint_margin_mmol_l,
+            free_water_deficit_l: (background.na_start_mmol_l > HYPERNATREMIA_ABOVE)
+                .then(|| formulas::free_water_deficit_l(tbw, background.na_start_mmol_l)),
+            dose_free_water_l,
             evaluations: search.runs,
         }
     };

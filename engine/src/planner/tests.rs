@@ -62,13 +62,22 @@ fn rate_request(low: f64, high: f64, by_h: f64) -> Request {
 /// Give the dose found in a plain scenario (the script plus one `infuse`
 /// line) and read the change at the goal's time and the flags.
 fn replay(source: &str, dose: &Dose, by_h: f64) -> (f64, Vec<crate::limits::Flag>) {
+    replay_fluid(source, "saline_3", dose, by_h)
+}
+
+fn replay_fluid(
+    source: &str,
+    fluid: &str,
+    dose: &Dose,
+    by_h: f64,
+) -> (f64, Vec<crate::limits::Flag>) {
     let lines: String = match *dose {
         Dose::Rate {
             rate_ml_h,
             from_h,
             for_h,
         } => format!(
-            "at(hours({from_h:?}), infuse(\"saline_3\", ml({:?}), hours({for_h:?})));\n",
+            "at(hours({from_h:?}), infuse(\"{fluid}\", ml({:?}), hours({for_h:?})));\n",
             rate_ml_h * for_h
         ),
         Dose::Bolus {
@@ -80,7 +89,7 @@ fn replay(source: &str, dose: &Dose, by_h: f64) -> (f64, Vec<crate::limits::Flag
         } => (0..count)
             .map(|k| {
                 format!(
-                    "at(hours({:?}), infuse(\"saline_3\", ml({volume_ml:?}), hours({bolus_h:?})));\n",
+                    "at(hours({:?}), infuse(\"{fluid}\", ml({volume_ml:?}), hours({bolus_h:?})));\n",
                     from_h + every_h * k as f64
                 )
             })
@@ -248,8 +257,7 @@ fn uncertainty_counts_members_and_bounds_the_dose_range() {
             rtol: Some(1e-4),
         }))
     };
-    let u =
-        uncertainty::uncertainty(&make, &spec, &request, answer.outcome.dose, 0.1, 2).unwrap();
+    let u = uncertainty::uncertainty(&make, &spec, &request, answer.outcome.dose, 0.1, 2).unwrap();
     let s = &u.at_dose;
     assert_eq!(s.members + s.failed, 24);
     for p in [s.p_any_limit, s.p_below_goal, s.p_above_goal] {
@@ -259,9 +267,40 @@ fn uncertainty_counts_members_and_bounds_the_dose_range() {
     assert!(p5 <= p50 && p50 <= p95, "{s:?}");
     // The median member lands near the point answer (the unknowns are
     // centred on the patient).
-    assert!((p50 - answer.outcome.na_change_at_goal_mmol_l).abs() < 1.5, "{s:?}");
+    assert!(
+        (p50 - answer.outcome.na_change_at_goal_mmol_l).abs() < 1.5,
+        "{s:?}"
+    );
     if let Some(h) = u.highest_amount_within_risk {
         assert!(h >= 0.0 && h <= 500.0);
     }
     assert!(u.runs >= 24);
+}
+
+#[test]
+fn a_free_water_rate_lowers_a_chronic_hypernatremia_inside_its_limit() {
+    // At most 10 mmol/L of fall per 24 h in chronic hypernatremia (common
+    // practice; Adrogué & Madias, NEJM 2000, from memory); goal 6-8.
+    const HYPER: &str = r#"
+        patient(#{ sex: "female", age_years: 84, weight_kg: 49, na: 158, bun_mg_dl: 35, onset: "chronic", cause: "inadequate_water_intake" });
+        run_for(hours(48));
+        at(hours(0), fluid_restriction(ml(500)));
+    "#;
+    let mut eval = evaluator(HYPER);
+    let request = Request {
+        fluid: crate::fluids::FluidLibrary::bundled()
+            .get("dextrose_5")
+            .unwrap()
+            .clone(),
+        ..rate_request(-8.0, -6.0, 24.0)
+    };
+    let answer = find_dose(&mut eval, &request).unwrap();
+    assert!(answer.met(), "{:?}", answer.verdict);
+    let (change, flags) = replay_fluid(HYPER, "dextrose_5", &answer.outcome.dose, 24.0);
+    assert!((-8.05..=-5.95).contains(&change), "{change}");
+    assert_eq!(limit_flags(&flags), 0, "{flags:?}");
+    // The deficit TBW·(158/140 − 1) is shown beside it.
+    let d = answer.free_water_deficit_l.unwrap();
+    let expect = answer.total_body_water_l * (158.0 / 140.0 - 1.0);
+    assert!((d - expect).abs() < 1e-9);
 }

@@ -272,7 +272,7 @@ fn uncertainty_counts_members_and_bounds_the_dose_range() {
         "{s:?}"
     );
     if let Some(h) = u.highest_amount_within_risk {
-        assert!(h >= 0.0 && h <= 500.0);
+        assert!((0.0..=500.0).contains(&h));
     }
     assert!(u.runs >= 24);
 }

@@ -74,6 +74,20 @@ pub enum InputError {
         /// What is wrong.
         message: String,
     },
+    /// A bad cell (or header) of an observed-labs file.
+    #[error("{file}:{line}:{column} ({header}): {message}")]
+    ObservedCell {
+        /// File name.
+        file: String,
+        /// Line (1-based) in the file.
+        line: usize,
+        /// Column (1-based) in the row.
+        column: usize,
+        /// The column's header name (or the cell itself, in the header).
+        header: String,
+        /// What is wrong and what was expected.
+        message: String,
+    },
 }
 
 impl InputError {
@@ -87,7 +101,7 @@ impl InputError {
             InputError::UnknownParameter { name, .. } | InputError::UnknownFluid { name, .. } => {
                 name
             }
-            InputError::DataFile { file, .. } => file,
+            InputError::DataFile { file, .. } | InputError::ObservedCell { file, .. } => file,
         }
     }
 }

@@ -48,6 +48,7 @@
 //! | [`validation`] | the dossier of published human data and its metrics |
 //! | [`dump`], [`reference`](mod@reference), [`formulas`] | the model dump for independent implementations, the reference case, bedside formulas |
 //! | [`bedside`] | the Adrogué–Madias course of a run's infusions and the attribution of the body's departure from it |
+//! | [`observations`] | observed labs as data: the CSV of measurements taken during a run, checked cell by cell |
 //!
 //! ```
 //! use tidewater::{FluidLibrary, Patient, Plan, Simulation, Stream};
@@ -86,6 +87,7 @@ pub mod limits;
 pub mod model;
 pub(crate) mod newton_lu;
 pub(crate) mod numeric;
+pub mod observations;
 pub mod params;
 pub mod patient;
 pub mod physiology;

@@ -66,6 +66,13 @@ pub enum Command {
         allow_negative_numbers = true
     )]
     Plan(PlanArgs),
+    /// Learn the patient's unknowns from measured labs (a CSV) and forecast
+    /// the scenario's plan with bands: forecast.csv, fit.json,
+    /// forecast.svg and report.html.
+    #[command(
+        after_help = format!("Examples:\n  tidewater fit scenarios/labs_settling.rhai --observed scenarios/observations/settling_labs.csv\n  tidewater fit SCRIPT --observed labs.csv --vary unknowns.yaml --out /tmp/fit\n\nThe script gives the patient, the cause and what was given so far (and, after\nthe last observation, the plan proposed). The observation file is described\nin scenarios/README.md (\"Observed labs\").\n\n{EXIT_CODES}")
+    )]
+    Fit(FitArgs),
     /// List the fluid library with compositions (mmol/L; albumin in g/L).
     #[command(
         after_help = "Examples:\n  tidewater fluids\n  tidewater fluids --json\n  tidewater fluids --file my_fluids.yaml"
@@ -382,9 +389,41 @@ pub struct PlanArgs {
     /// With --uncertainty: worker threads (default: all cores).
     #[arg(long, requires = "uncertainty")]
     pub threads: Option<usize>,
+    /// Plan for the patient fitted to these observed labs (see `tidewater
+    /// fit`) instead of the script's patient: "given what we have seen,
+    /// what dose now?" (use --from for the time the dose starts).
+    #[arg(long, value_name = "CSV")]
+    pub observed: Option<PathBuf>,
     /// Print the answer as one JSON object.
     #[arg(long)]
     pub json: bool,
+}
+
+/// Options of `fit`.
+#[derive(Args, Debug)]
+pub struct FitArgs {
+    /// Scenario script.
+    pub script: PathBuf,
+    /// Observed labs (CSV: time_h and any of na_mmol_l, k_mmol_l, ...).
+    #[arg(long, value_name = "CSV")]
+    pub observed: PathBuf,
+    /// A sweep spec whose parameters (each with a distribution or a range:
+    /// the prior) replace the default unknowns.
+    #[arg(long, value_name = "YAML")]
+    pub vary: Option<PathBuf>,
+    /// Output folder (default: runs/<scenario-name>-fit/); replaced as a
+    /// whole when the fit succeeds.
+    #[arg(long, short = 'o', value_name = "DIR")]
+    pub out: Option<PathBuf>,
+    /// Draws from the fitted posterior for the forecast.
+    #[arg(long, value_name = "N", default_value_t = 200, value_parser = clap::value_parser!(u64).range(10..=100_000))]
+    pub draws: u64,
+    /// Seed of the draws.
+    #[arg(long, default_value_t = 1)]
+    pub seed: u64,
+    /// Print nothing on stdout but the output folder.
+    #[arg(long, short = 'q')]
+    pub quiet: bool,
 }
 
 /// How the planner gives the fluid.

@@ -5,7 +5,8 @@
 //!
 //! * `cli.rs`: every option as typed (clap); `options.rs`: the settings
 //!   the commands use, converted once ([`options::Task::from_command`]).
-//! * `commands.rs`, `sweep_command.rs`, `plan_command.rs`, `check/`: the
+//! * `commands.rs`, `sweep_command.rs`, `plan_command.rs`,
+//!   `fit_command.rs`, `check/`: the
 //!   commands.
 //! * `input.rs`: [`input::RunInput`], what every report is made from (the
 //!   built-in case or a scenario script); `scripts.rs`: finding scripts.
@@ -19,6 +20,7 @@ mod bedside_summary;
 mod check;
 mod cli;
 mod commands;
+mod fit_command;
 mod format;
 mod input;
 mod options;
@@ -105,6 +107,7 @@ fn dispatch(task: Task, style: Style) -> Result<Outcome> {
         Task::Merge(opts) => sweep_command::merge_command(opts).map(ok),
         Task::Check(opts) => check::check_command(opts, style).map(Outcome::from),
         Task::Validate(args) => validate::validate_command(args, style).map(Outcome::from),
+        Task::Fit(args) => fit_command::fit_command(args).map(|()| Outcome::Ok),
         Task::Plan(args) => plan_command::plan_command(args, style).map(Outcome::from),
         Task::Dump { script } => commands::dump(&script).map(ok),
         Task::Completions { shell } => {

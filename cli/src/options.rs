@@ -93,6 +93,8 @@ pub enum Task {
     Check(CheckOptions),
     /// `validate`: the dossier, the output folder, threads, quiet.
     Validate(crate::validate::ValidateArgs),
+    /// `fit`: the options as typed.
+    Fit(crate::cli::FitArgs),
     /// `plan`: the options as typed (the planner checks them itself).
     Plan(crate::cli::PlanArgs),
     /// `dump`: the scenario script.
@@ -151,6 +153,7 @@ impl Task {
             Command::Check(a) => Task::Check(CheckOptions::from_args(a)?),
             Command::Validate(a) => Task::Validate(a),
             Command::Plan(a) => Task::Plan(a),
+            Command::Fit(a) => Task::Fit(a),
             Command::Dump(a) => Task::Dump { script: a.script },
             Command::Completions(a) => Task::Completions { shell: a.shell },
         })

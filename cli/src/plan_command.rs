@@ -26,10 +26,10 @@ pub fn plan_command(args: PlanArgs, style: Style) -> Result<bool> {
     let fluid = scenario
         .fluid(&fluid_id)
         .map_err(|e| anyhow!("--fluid: {e}"))?;
-    let mut eval = ScenarioEvaluator {
-        scenario,
-        rtol: None,
-    };
+    let mut eval = ScenarioEvaluator::new(scenario);
+    if let Some(path) = &args.observed {
+        eval.base = Some(fitted_plan(&eval.scenario, path)?);
+    }
     let header = json!({
         "scenario": args.script.display().to_string(),
         "title": title,
@@ -140,9 +140,14 @@ fn run_uncertainty(
     }
     let script = args.script.clone();
     let rtol = spec.rtol;
+    let base = eval.base.clone();
     let make = move || -> Result<Box<dyn Evaluator>, String> {
         let scenario = Scenario::load(&script).map_err(|e| e.to_string())?;
-        Ok(Box::new(ScenarioEvaluator { scenario, rtol }))
+        Ok(Box::new(ScenarioEvaluator {
+            scenario,
+            rtol,
+            base: base.clone(),
+        }))
     };
     let threads = args
         .threads
@@ -156,6 +161,27 @@ fn run_uncertainty(
         threads,
     )
     .map_err(|e| anyhow!("{e}"))
+}
+
+/// The scenario's plan for the patient fitted to the labs in `path`
+/// (default unknowns), so the planner answers "given what we have seen,
+/// what now?".
+fn fitted_plan(scenario: &Scenario, path: &std::path::Path) -> Result<tidewater::Plan> {
+    let observations =
+        tidewater::observations::Observations::load(path).map_err(|e| anyhow!("{e}"))?;
+    let unknowns = tidewater::fit::default_unknowns(scenario.plan()).map_err(|e| anyhow!("{e}"))?;
+    let model = tidewater::fit::FitModel::new(scenario, &unknowns, &observations);
+    let fit = tidewater::fit::fit(&model).map_err(|e| anyhow!("{e}"))?;
+    eprintln!(
+        "fitted to {}: {}",
+        path.display(),
+        fit.estimates
+            .iter()
+            .map(|e| format!("{} {:.3}", e.name, e.value))
+            .collect::<Vec<_>>()
+            .join(", ")
+    );
+    model.plan(&fit.values(), None).map_err(|e| anyhow!("{e}"))
 }
 
 /// `LOW..HIGH` as two numbers.

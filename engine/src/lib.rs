@@ -49,6 +49,8 @@
 //! | [`dump`], [`reference`](mod@reference), [`formulas`] | the model dump for independent implementations, the reference case, bedside formulas |
 //! | [`bedside`] | the Adrogué–Madias course of a run's infusions and the attribution of the body's departure from it |
 //! | [`observations`] | observed labs as data: the CSV of measurements taken during a run, checked cell by cell |
+//! | [`planner`] | the correction planner: the dose of a fluid that meets a goal within the limits, a re-lowering, the chance of crossing a limit over the plausible unknowns |
+//! | [`fit`] | learning a patient's unknowns from observed labs (Levenberg–Marquardt on the posterior, Laplace uncertainty) and the forecast with bands |
 //!
 //! ```
 //! use tidewater::{FluidLibrary, Patient, Plan, Simulation, Stream};
@@ -80,6 +82,7 @@ pub mod body;
 pub mod causes;
 pub mod dump;
 pub mod error;
+pub mod fit;
 pub mod fluids;
 pub mod formulas;
 pub mod goals;

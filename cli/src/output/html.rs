@@ -39,7 +39,7 @@ pub fn escape(text: &str) -> String {
     out
 }
 
-const STYLE: &str = r#"
+pub(crate) const STYLE: &str = r#"
 :root { --ink:#242933; --muted:#5b6472; --line:#dde2e7; --sea:#1f6f68; --sand:#fbf6ea; --amber:#de8912; --brick:#bd3e30; --ok:#26765c; }
 * { box-sizing: border-box; }
 body { margin:0; font-family: system-ui, -apple-system, "Segoe UI", sans-serif; color:var(--ink); background:#f4f6f8; line-height:1.45; }

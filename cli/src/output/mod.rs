@@ -18,6 +18,7 @@
 //! the engine's sweep machinery.
 
 pub mod csv;
+pub mod fit;
 pub mod html;
 pub mod json;
 pub mod junit;

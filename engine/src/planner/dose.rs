@@ -383,9 +383,11 @@ fn search_amount<E: Evaluator>(
                 Found::Short(
                 o,
                 format!(
-                    "even the largest dose allowed ({}) changes sodium by only {change:+.1} mmol/L by {} h",
+                    "even the largest dose allowed ({}) changes sodium by {change:+.1} mmol/L by {} h, short of the goal {:+.1}..{:+.1}",
                     describe(&dose.with_amount(amount), &search.request.fluid.id),
-                    goal.by_h
+                    goal.by_h,
+                    goal.low_mmol_l,
+                    goal.high_mmol_l
                 ),
             )
             },

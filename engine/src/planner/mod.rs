@@ -251,11 +251,25 @@ pub struct ScenarioEvaluator {
     pub scenario: Scenario,
     /// Solver tolerance for every run (none: the plan's).
     pub rtol: Option<f64>,
+    /// A plan in place of the script's (for example the fitted patient's,
+    /// [`crate::fit::FitModel::plan`]); none: the script's.
+    pub base: Option<Plan>,
+}
+
+impl ScenarioEvaluator {
+    /// An evaluator of the script's own plan.
+    pub fn new(scenario: Scenario) -> Self {
+        ScenarioEvaluator {
+            scenario,
+            rtol: None,
+            base: None,
+        }
+    }
 }
 
 impl Evaluator for ScenarioEvaluator {
     fn plan(&self) -> &Plan {
-        self.scenario.plan()
+        self.base.as_ref().unwrap_or_else(|| self.scenario.plan())
     }
 
     fn run(
@@ -263,7 +277,7 @@ impl Evaluator for ScenarioEvaluator {
         extra: &[(f64, Stream)],
         overrides: &[(String, f64)],
     ) -> Result<Trajectory, String> {
-        let mut plan = self.scenario.plan().clone();
+        let mut plan = self.plan().clone();
         crate::sweep::apply_overrides(&mut plan, overrides)?;
         for (t, s) in extra {
             plan = plan.start(*t, s.clone());

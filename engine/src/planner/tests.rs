@@ -7,10 +7,7 @@ use crate::scenario::Scenario;
 use std::path::Path;
 
 fn evaluator(source: &str) -> ScenarioEvaluator {
-    ScenarioEvaluator {
-        scenario: Scenario::from_source("plan.rhai", source, Path::new(".")).unwrap(),
-        rtol: None,
-    }
+    ScenarioEvaluator::new(Scenario::from_source("plan.rhai", source, Path::new(".")).unwrap())
 }
 
 /// Invented patients and backgrounds (the guideline numbers are those of
@@ -255,6 +252,7 @@ fn uncertainty_counts_members_and_bounds_the_dose_range() {
             scenario: Scenario::from_source("plan.rhai", SIAD_MAN, Path::new("."))
                 .map_err(|e| e.to_string())?,
             rtol: Some(1e-4),
+            base: None,
         }))
     };
     let u = uncertainty::uncertainty(&make, &spec, &request, answer.outcome.dose, 0.1, 2).unwrap();

@@ -48,12 +48,12 @@ impl Output<Report> for Charts {
 }
 
 // Tidewater's palette.
-const INK: RGBColor = RGBColor(36, 41, 51);
+pub(crate) const INK: RGBColor = RGBColor(36, 41, 51);
 const GRID: RGBColor = RGBColor(222, 226, 230);
-const SODIUM: RGBColor = RGBColor(22, 84, 128);
+pub(crate) const SODIUM: RGBColor = RGBColor(22, 84, 128);
 const CEILING: RGBColor = RGBColor(189, 62, 48);
-const PERMITTED: RGBColor = RGBColor(126, 184, 166);
-const FLAG: RGBColor = RGBColor(222, 137, 18);
+pub(crate) const PERMITTED: RGBColor = RGBColor(126, 184, 166);
+pub(crate) const FLAG: RGBColor = RGBColor(222, 137, 18);
 const GOAL: RGBColor = RGBColor(38, 118, 74);
 const CELLS: RGBColor = RGBColor(94, 114, 128);
 const RED_CELLS: RGBColor = RGBColor(176, 58, 62);
@@ -65,11 +65,11 @@ const URINE_OSM: RGBColor = RGBColor(88, 62, 138);
 const INTAKE: RGBColor = RGBColor(38, 118, 92);
 const OUTPUT: RGBColor = RGBColor(198, 92, 44);
 const NET: RGBColor = RGBColor(110, 110, 120);
-const FORMULA: RGBColor = RGBColor(72, 60, 50);
+pub(crate) const FORMULA: RGBColor = RGBColor(72, 60, 50);
 
 /// Width of a run's charts, px.
-const WIDTH: u32 = 920;
-const FONT: &str = "sans-serif";
+pub(crate) const WIDTH: u32 = 920;
+pub(crate) const FONT: &str = "sans-serif";
 
 /// Draw every chart of a run.
 pub fn charts(input: &RunInput, summary: &Summary) -> Result<Vec<Chart>> {

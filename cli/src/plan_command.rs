@@ -220,29 +220,9 @@ fn print_answer(a: &Answer, title: &str, style: Style) {
         a.total_body_water_l
     );
     let dose = tidewater::planner::describe(&a.outcome.dose, &a.fluid);
-    match &a.verdict {
-        Verdict::Met { note } => {
-            println!(
-                "\n{} {dose} ({:.0} mL in all)",
-                style.good("Dose:"),
-                a.outcome.volume_ml
-            );
-            if let Some(n) = note {
-                println!("  note: {n}");
-            }
-        }
-        Verdict::Infeasible { reason } => {
-            println!(
-                "\n{} no dose of {} meets the goal within the limits: {reason}.",
-                style.bad("Not reachable:"),
-                a.fluid
-            );
-            println!(
-                "  nearest feasible dose: {dose} ({:.0} mL in all)",
-                a.outcome.volume_ml
-            );
-        }
-    }
+    let why_not = format!("no dose of {} meets the goal within the limits: ", a.fluid);
+    print_verdict(a, &dose, &why_not, style);
+
     print_course(&a.outcome, &a.background);
     println!(
         "  bedside formula: Adrogué–Madias (closed body, TBW {:.1} L) predicts {:+.1} mmol/L by {} h for this volume; the body {:+.1}",
@@ -258,6 +238,29 @@ fn print_answer(a: &Answer, title: &str, style: Style) {
         println!("  {}", crate::bedside_summary::sentence(g));
     }
     println!("  found in {} runs of the full model", a.evaluations);
+}
+
+/// The dose, or why none meets the goal and the nearest feasible one.
+fn print_verdict(a: &Answer, dose: &str, why_not: &str, style: Style) {
+    match &a.verdict {
+        Verdict::Met { note } => {
+            println!(
+                "\n{} {dose} ({:.0} mL in all)",
+                style.good("Dose:"),
+                a.outcome.volume_ml
+            );
+            if let Some(n) = note {
+                println!("  note: {n}");
+            }
+        }
+        Verdict::Infeasible { reason } => {
+            println!("\n{} {why_not}{reason}.", style.bad("Not reachable:"));
+            println!(
+                "  nearest feasible dose: {dose} ({:.0} mL in all)",
+                a.outcome.volume_ml
+            );
+        }
+    }
 }
 
 fn print_course(o: &Outcome, bg: &Outcome) {
@@ -380,22 +383,8 @@ fn print_relowering(r: &relower::Relowering, title: &str, style: Style) {
         r.from_h
     );
     let dose = relower::describe(r);
-    match &a.verdict {
-        Verdict::Met { note } => {
-            println!(
-                "\n{} {dose} ({:.0} mL in all)",
-                style.good("Dose:"),
-                a.outcome.volume_ml
-            );
-            if let Some(n) = note {
-                println!("  note: {n}");
-            }
-        }
-        Verdict::Infeasible { reason } => {
-            println!("\n{} {reason}.", style.bad("Not reachable:"));
-            println!("  nearest feasible dose: {dose}");
-        }
-    }
+    print_verdict(a, &dose, "", style);
+
     if r.clamp.is_some() {
         println!("  (\"without the dose\": the scenario with the desmopressin clamp alone)");
     }

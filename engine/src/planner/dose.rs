@@ -573,15 +573,18 @@ fn check_request<E: Evaluator>(eval: &E, request: &Request) -> Result<(), PlanEr
             ),
         );
     }
+    let from_h = match request.form {
+        Form::Rate { from_h, .. } | Form::Bolus { from_h, .. } => from_h,
+    };
+    if !(from_h >= 0.0 && from_h < goal.by_h) {
+        return bad("from", from_h.to_string(), "a start before the goal's time");
+    }
     match request.form {
         Form::Rate {
-            from_h,
             for_h,
             max_rate_ml_h,
+            ..
         } => {
-            if !(from_h >= 0.0 && from_h < goal.by_h) {
-                return bad("from", from_h.to_string(), "a start before the goal's time");
-            }
             if !(for_h > 0.0 && for_h.is_finite()) {
                 return bad("for", for_h.to_string(), "a positive duration in hours");
             }
@@ -594,15 +597,12 @@ fn check_request<E: Evaluator>(eval: &E, request: &Request) -> Result<(), PlanEr
             }
         }
         Form::Bolus {
-            from_h,
             bolus_h,
             every_h,
             max_count,
             max_bolus_ml,
+            ..
         } => {
-            if !(from_h >= 0.0 && from_h < goal.by_h) {
-                return bad("from", from_h.to_string(), "a start before the goal's time");
-            }
             if !(bolus_h > 0.0 && every_h >= bolus_h && every_h.is_finite()) {
                 return bad(
                     "bolus-every",

@@ -259,23 +259,17 @@ fn bisect(
 /// unless it holds there already, true at `ok`).
 fn bisect_low(
     spread: &mut impl FnMut(f64) -> Result<Spread, PlanError>,
-    mut bad: f64,
-    mut ok: f64,
+    bad: f64,
+    ok: f64,
     steps: usize,
     good: impl Fn(&Spread) -> bool,
 ) -> Result<f64, PlanError> {
     if good(&spread(bad)?) {
         return Ok(bad);
     }
-    for _ in 0..steps {
-        let mid = 0.5 * (ok + bad);
-        if good(&spread(mid)?) {
-            ok = mid;
-        } else {
-            bad = mid;
-        }
-    }
-    Ok(ok)
+    // The same halving as `bisect`, with the ends' roles swapped: it keeps
+    // the end where `good` holds.
+    bisect(spread, ok, bad, steps, good)
 }
 
 /// Run one dose over every member on `threads` workers.

@@ -145,6 +145,10 @@ pub struct RunArgs {
     /// Exit with 1 when a guideline limit (severity "limit") is crossed (a goal missed does not count).
     #[arg(long)]
     pub strict: bool,
+    /// Observed labs (CSV): fit the script's unknowns to them and add the
+    /// fit, its forecast and its chart to the report (see `tidewater fit`).
+    #[arg(long, value_name = "CSV", conflicts_with = "demo")]
+    pub observed: Option<PathBuf>,
     /// Print nothing on stderr but errors.
     #[arg(long, short = 'q')]
     pub quiet: bool,

@@ -28,7 +28,14 @@ pub fn run(opts: RunOptions, style: Style) -> Result<bool> {
         RunSource::Script(path) => input::load_script(path)?,
     };
     let dir = opts.out_dir(&run.name);
-    let report = Report::new(run)?;
+    let mut report = Report::new(run)?;
+    if let (Some(labs), RunSource::Script(path)) = (&opts.observed, &opts.source) {
+        let fit = crate::fit_command::fit_report(path, labs, None, 200, 1)?;
+        if !opts.quiet {
+            crate::fit_command::print_fit(&fit);
+        }
+        report = report.with_fit(fit)?;
+    }
     report.write(&dir)?;
     let s = &report.summary;
     if !opts.quiet {

@@ -6,7 +6,7 @@ use crate::cli::FitArgs;
 use crate::output::fit::{FitJson, FitPage, FitReport, ForecastCsv};
 use crate::output::{self, Output, Placement};
 use anyhow::{anyhow, Context, Result};
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use tidewater::fit::{self, FitModel};
 use tidewater::observations::Observations;
 use tidewater::scenario::Scenario;
@@ -14,9 +14,44 @@ use tidewater::sweep::SweepSpec;
 
 /// Run `fit`.
 pub fn fit_command(args: FitArgs) -> Result<()> {
-    let scenario = Scenario::load(&args.script).map_err(|e| anyhow!("{e}"))?;
-    let observations = Observations::load(&args.observed).map_err(|e| anyhow!("{e}"))?;
-    let unknowns = match &args.vary {
+    let report = fit_report(
+        &args.script,
+        &args.observed,
+        args.vary.as_deref(),
+        args.draws as usize,
+        args.seed,
+    )?;
+    let out = args.out.clone().unwrap_or_else(|| {
+        let stem = args
+            .script
+            .file_stem()
+            .map_or("scenario".into(), |s| s.to_string_lossy().into_owned());
+        PathBuf::from("runs").join(format!("{stem}-fit"))
+    });
+    let outputs: [&dyn Output<FitReport>; 3] = [&ForecastCsv, &FitJson, &FitPage];
+    output::write(&report, &outputs, &out, Placement::Folder)?;
+    if args.quiet {
+        println!("{}", out.display());
+        return Ok(());
+    }
+    print_fit(&report);
+    println!("written: {}", out.display());
+    println!("\n{}", tidewater::CAUTION);
+    Ok(())
+}
+
+/// Fit the script's unknowns (the defaults, or the parameters of the
+/// `vary` spec) to the labs in `observed`, and forecast with `draws`.
+pub fn fit_report(
+    script: &Path,
+    observed: &Path,
+    vary: Option<&Path>,
+    draws: usize,
+    seed: u64,
+) -> Result<FitReport> {
+    let scenario = Scenario::load(script).map_err(|e| anyhow!("{e}"))?;
+    let observations = Observations::load(observed).map_err(|e| anyhow!("{e}"))?;
+    let unknowns = match vary {
         Some(path) => {
             let name = path.display().to_string();
             let text =
@@ -28,30 +63,20 @@ pub fn fit_command(args: FitArgs) -> Result<()> {
     };
     let model = FitModel::new(&scenario, &unknowns, &observations);
     let result = fit::fit(&model).map_err(|e| anyhow!("{e}"))?;
-    let forecast = fit::forecast(&model, &result, args.draws as usize, args.seed)
-        .map_err(|e| anyhow!("{e}"))?;
-    let out = args.out.clone().unwrap_or_else(|| {
-        let stem = args
-            .script
-            .file_stem()
-            .map_or("scenario".into(), |s| s.to_string_lossy().into_owned());
-        PathBuf::from("runs").join(format!("{stem}-fit"))
-    });
-    let report = FitReport {
+    let forecast = fit::forecast(&model, &result, draws, seed).map_err(|e| anyhow!("{e}"))?;
+    Ok(FitReport {
         title: scenario.title().to_string(),
-        script: args.script.display().to_string(),
-        observed: args.observed.display().to_string(),
+        script: script.display().to_string(),
+        observed: observed.display().to_string(),
         guideline: scenario.plan().limits.guideline.id.clone(),
         fit: result,
         forecast,
         observations,
-    };
-    let outputs: [&dyn Output<FitReport>; 3] = [&ForecastCsv, &FitJson, &FitPage];
-    output::write(&report, &outputs, &out, Placement::Folder)?;
-    if args.quiet {
-        println!("{}", out.display());
-        return Ok(());
-    }
+    })
+}
+
+/// What the fit learned and forecast, on stdout.
+pub fn print_fit(report: &FitReport) {
     let c = &report.fit.convergence;
     println!("Fit: {}", report.title);
     println!(
@@ -84,7 +109,4 @@ pub fn fit_command(args: FitArgs) -> Result<()> {
             100.0 * l.p_in_forecast
         );
     }
-    println!("written: {}", out.display());
-    println!("\n{}", tidewater::CAUTION);
-    Ok(())
 }

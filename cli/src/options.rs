@@ -122,6 +122,7 @@ impl Task {
                 out: a.out,
                 strict: a.strict,
                 quiet: a.quiet,
+                observed: a.observed,
             }),
             Command::RenderReports(a) => Task::RenderReports(RenderOptions {
                 scenarios: a.scenarios,
@@ -180,6 +181,8 @@ pub struct RunOptions {
     pub strict: bool,
     /// Only errors on stderr.
     pub quiet: bool,
+    /// Observed labs to fit and add to the report.
+    pub observed: Option<PathBuf>,
 }
 
 impl RunOptions {

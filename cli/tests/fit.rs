@@ -118,3 +118,36 @@ fn bad_observation_files_exit_2_naming_the_cell_and_write_nothing() {
         assert!(!out.exists(), "{name}: something was written");
     }
 }
+
+#[test]
+fn a_run_with_observations_carries_the_fit_in_its_report() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("run");
+    let o = Command::new(env!("CARGO_BIN_EXE_tidewater"))
+        .args([
+            "run",
+            SCRIPT,
+            "--observed",
+            LABS,
+            "--out",
+            out.to_str().unwrap(),
+            "-q",
+        ])
+        .current_dir(root())
+        .env("NO_COLOR", "1")
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(0), "{}", text(&o.stderr));
+    for f in [
+        "samples.csv",
+        "report.html",
+        "fit.json",
+        "forecast.csv",
+        "forecast.svg",
+    ] {
+        assert!(out.join(f).is_file(), "{f}");
+    }
+    let html = std::fs::read_to_string(out.join("report.html")).unwrap();
+    assert!(html.contains("What the measurements taught"));
+    assert!(html.contains("cause_resolves_h"));
+}

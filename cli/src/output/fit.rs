@@ -230,6 +230,16 @@ fn page(r: &FitReport, svg: &str) -> String {
         escape(&r.guideline),
         escape(tidewater::CAUTION)
     );
+    h.push_str(&section(r, svg));
+    h.push_str("</main>\n</body>\n</html>\n");
+    h
+}
+
+/// The fit as a section of a page (the fit's own, or a run's report when
+/// the run has observations): estimates, the chance of crossing each
+/// rule, the chart, the residuals.
+pub fn section(r: &FitReport, svg: &str) -> String {
+    let mut h = String::new();
     let c = &r.fit.convergence;
     let _ = write!(
         h,
@@ -279,6 +289,6 @@ fn page(r: &FitReport, svg: &str) -> String {
             x.line, x.time_h, x.lab, x.observed, x.model, x.sd, x.scaled
         );
     }
-    h.push_str("</table>\n</main>\n</body>\n</html>\n");
+    h.push_str("</table>\n");
     h
 }

@@ -343,6 +343,9 @@ pub fn render(report: &Report) -> String {
         }
         out.push_str("</pre>\n");
     }
+    if let Some((fit, svg)) = &report.fit {
+        out.push_str(&super::fit::section(fit, svg));
+    }
     let _ = write!(
         out,
         "<footer>Tidewater {} · {} samples · data in samples.csv and summary.json beside this page.</footer>\n</main>\n</body>\n</html>\n",

@@ -15,6 +15,8 @@ pub struct Report {
     pub summary: Summary,
     /// Its charts, rendered once (SVG text).
     pub charts: Vec<svg::Chart>,
+    /// The fit to observed labs, when the run has them, with its chart.
+    pub fit: Option<(super::fit::FitReport, String)>,
 }
 
 impl Report {
@@ -26,14 +28,47 @@ impl Report {
             input,
             summary,
             charts,
+            fit: None,
         })
+    }
+
+    /// Add the fit to observed labs (its section in the page, its files
+    /// beside the run's).
+    pub fn with_fit(mut self, fit: super::fit::FitReport) -> Result<Self> {
+        let svg = fit.chart()?;
+        self.fit = Some((fit, svg));
+        Ok(self)
     }
 
     /// Write every output of the run into `dest`, a folder of its own:
     /// staged beside it and swapped in whole, so a failure leaves `dest`
     /// as it was.
     pub fn write(&self, dest: &Path) -> Result<()> {
-        super::write(self, &OUTPUTS, dest, Placement::Folder).map(|_| ())
+        let mut outputs: Vec<&dyn Output<Report>> = OUTPUTS.to_vec();
+        if self.fit.is_some() {
+            outputs.push(&FitFiles);
+        }
+        super::write(self, &outputs, dest, Placement::Folder).map(|_| ())
+    }
+}
+
+/// The fit's files beside a run's: `forecast.csv`, `fit.json`,
+/// `forecast.svg`.
+struct FitFiles;
+
+impl Output<Report> for FitFiles {
+    fn format(&self) -> &'static str {
+        "fit"
+    }
+
+    fn files(&self, report: &Report) -> Result<Vec<super::OutputFile>> {
+        let Some((fit, svg)) = &report.fit else {
+            return Ok(Vec::new());
+        };
+        let mut files = super::fit::ForecastCsv.files(fit)?;
+        files.extend(super::fit::FitJson.files(fit)?);
+        files.push(self.file("forecast.svg", svg.as_str()));
+        Ok(files)
     }
 }
 

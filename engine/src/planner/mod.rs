@@ -27,6 +27,7 @@
 //! device. Defer to local protocols and licensed clinicians, and re-measure
 //! serum sodium.
 
+mod check;
 pub(crate) mod dose;
 mod outcome;
 pub mod relower;

@@ -61,7 +61,7 @@ pub fn no_color() -> bool {
 }
 
 /// Worker threads when none are asked for: every core.
-fn all_cores() -> usize {
+pub fn all_cores() -> usize {
     std::thread::available_parallelism().map_or(1, |n| n.get())
 }
 

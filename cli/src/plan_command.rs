@@ -149,9 +149,7 @@ fn run_uncertainty(
             base: base.clone(),
         }))
     };
-    let threads = args
-        .threads
-        .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()));
+    let threads = args.threads.unwrap_or_else(crate::options::all_cores);
     uncertainty::uncertainty(
         &make,
         &spec,

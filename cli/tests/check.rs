@@ -212,7 +212,15 @@ fn bad_baselines_give_clear_errors() {
         Some(0)
     );
     let good = std::fs::read_to_string(baseline(dir)).unwrap();
-    let cases: [(String, &str); 5] = [
+    // A cell of the third key sample (line 7), replaced.
+    let with_cell = |column: usize, cell: &str| {
+        let mut lines: Vec<String> = good.lines().map(String::from).collect();
+        let mut cells: Vec<String> = lines[6].split(',').map(String::from).collect();
+        cells[column] = cell.into();
+        lines[6] = cells.join(",");
+        lines.join("\n")
+    };
+    let cases: [(String, &str); 8] = [
         (
             good.replace("urine_ml_h", "urine_mlh"),
             "unknown column `urine_mlh` (did you mean `urine_ml_h`?)",
@@ -222,15 +230,22 @@ fn bad_baselines_give_clear_errors() {
             ":4: the first column must be `time_h`, found `hours`",
         ),
         (
-            {
-                // Corrupt the sodium of the third key sample (line 7).
-                let mut lines: Vec<String> = good.lines().map(String::from).collect();
-                let mut cells: Vec<String> = lines[6].split(',').map(String::from).collect();
-                cells[1] = "12O.5".into();
-                lines[6] = cells.join(",");
-                lines.join("\n")
-            },
-            "baselines/fixture.csv:7: column `na_mmol_l`: `12O.5` is not a number",
+            with_cell(1, "12O.5"),
+            "baselines/fixture.csv:7:2: column `na_mmol_l`: `12O.5` is not a number",
+        ),
+        // A NaN or an infinity is a broken baseline (exit 2), not a value
+        // whose tolerance is ±NaN (it used to fail the check with exit 1).
+        (
+            with_cell(1, "NaN"),
+            "baselines/fixture.csv:7:2: column `na_mmol_l`: `NaN` is not a finite number",
+        ),
+        (
+            with_cell(3, "inf"),
+            "baselines/fixture.csv:7:4: column `glucose_mmol_l`: `inf` is not a finite number",
+        ),
+        (
+            with_cell(0, "nan"),
+            "baselines/fixture.csv:7:1: column `time_h`: `nan` is not a finite number",
         ),
         (
             good.lines().take(5).collect::<Vec<_>>().join("\n") + ",1\n",

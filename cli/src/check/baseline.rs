@@ -62,6 +62,8 @@ pub struct BaselineError {
     pub path: PathBuf,
     /// Line in the file (1-based; 0 when the whole file is at fault).
     pub line: usize,
+    /// Column of the cell at fault (1-based; 0 when the whole line is).
+    pub column: usize,
     /// What is wrong.
     pub message: String,
 }
@@ -70,6 +72,15 @@ impl fmt::Display for BaselineError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         if self.line == 0 {
             write!(f, "baseline {}: {}", self.path.display(), self.message)
+        } else if self.column > 0 {
+            write!(
+                f,
+                "baseline {}:{}:{}: {}",
+                self.path.display(),
+                self.line,
+                self.column,
+                self.message
+            )
         } else {
             write!(
                 f,
@@ -112,6 +123,7 @@ pub fn read(path: &Path) -> Result<Baseline, BaselineError> {
     let text = std::fs::read_to_string(path).map_err(|e| BaselineError {
         path: path.to_path_buf(),
         line: 0,
+        column: 0,
         message: if e.kind() == std::io::ErrorKind::NotFound {
             "no such file (write one with `tidewater check --update`)".into()
         } else {
@@ -123,11 +135,13 @@ pub fn read(path: &Path) -> Result<Baseline, BaselineError> {
 
 /// Parse baseline text; `path` names the file in errors.
 pub fn parse(text: &str, path: &Path) -> Result<Baseline, BaselineError> {
-    let err = |line: usize, message: String| BaselineError {
+    let at = |line: usize, column: usize, message: String| BaselineError {
         path: path.to_path_buf(),
         line,
+        column,
         message,
     };
+    let err = |line: usize, message: String| at(line, 0, message);
     let mut lines = text
         .lines()
         .enumerate()
@@ -182,22 +196,27 @@ pub fn parse(text: &str, path: &Path) -> Result<Baseline, BaselineError> {
             ));
         }
         let mut values = Vec::with_capacity(cells.len());
-        for (cell, name) in cells.iter().zip(&names) {
-            let value: f64 = cell
-                .parse()
-                .map_err(|_| err(number, format!("column `{name}`: `{cell}` is not a number")))?;
-            if value.is_infinite() {
-                return Err(err(
+        for (index, (cell, name)) in cells.iter().zip(&names).enumerate() {
+            // A baseline holds what a run printed, and a run prints only
+            // finite numbers: NaN, an infinity or text is a broken baseline
+            // (exit 2), never a value to compare against.
+            let value: f64 = cell.parse().map_err(|_| {
+                at(
                     number,
+                    index + 1,
+                    format!("column `{name}`: `{cell}` is not a number"),
+                )
+            })?;
+            if !value.is_finite() {
+                return Err(at(
+                    number,
+                    index + 1,
                     format!("column `{name}`: `{cell}` is not a finite number"),
                 ));
             }
             values.push(value);
         }
         let time_h = values.remove(0);
-        if time_h.is_nan() {
-            return Err(err(number, "column `time_h`: NaN is not a time".into()));
-        }
         if let Some(last) = samples.last() {
             if time_h <= last.time_h {
                 return Err(err(

@@ -18,7 +18,7 @@ use std::time::Instant;
 struct Reuse {
     engine: Rc<Engine>,
     state: Shared,
-    log: Rc<RefCell<Vec<String>>>,
+    log: Rc<RefCell<super::RunLog>>,
     clock: Rc<Cell<Option<Instant>>>,
     ast: AST,
 }
@@ -119,7 +119,7 @@ impl Scenario {
             }
             None => {
                 let state: Shared = Rc::new(RefCell::new(State::new(base_dir)));
-                let log = Rc::new(RefCell::new(Vec::new()));
+                let log = Rc::new(RefCell::new(super::RunLog::default()));
                 let clock = Rc::new(Cell::new(None));
                 let engine = Rc::new(sandboxed_engine(
                     &state,

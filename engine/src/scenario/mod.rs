@@ -54,6 +54,7 @@ mod diagnose;
 pub mod error;
 pub mod expect;
 mod load;
+pub mod log;
 pub mod rules;
 mod sandbox;
 pub mod units;
@@ -69,6 +70,7 @@ use crate::plan::Plan;
 use crate::simulate::Simulation;
 use crate::trajectory::Trajectory;
 use assemble::Assembled;
+pub use log::RunLog;
 use rhai::{Engine, AST};
 use std::cell::{Cell, RefCell};
 use std::path::{Path, PathBuf};
@@ -89,8 +91,8 @@ pub struct Scenario {
     engine: Rc<Engine>,
     ast: AST,
     state: Shared,
-    load_log: Vec<String>,
-    log: Rc<RefCell<Vec<String>>>,
+    load_log: RunLog,
+    log: Rc<RefCell<RunLog>>,
     clock: Rc<Cell<Option<Instant>>>,
     settings: Vec<(String, f64)>,
     base_dir: PathBuf,
@@ -227,7 +229,7 @@ impl Scenario {
                 source: e,
             }
         })?;
-        let log = self.log.borrow().clone();
+        let log = self.log.borrow().to_lines();
         let expectations = self
             .script
             .expectations
@@ -279,6 +281,21 @@ mod tests {
             }
             other => panic!("{other:?}"),
         }
+    }
+
+    #[test]
+    fn a_rule_that_prints_without_end_leaves_a_bounded_log() {
+        // 3 rule calls of 6,000 lines each: 18,000 lines, cut at the bound.
+        let s = load(
+            "run_for(hours(1));\nevery(minutes(30), |labs| { for i in 0..6000 { print(`line ${i}`); } });",
+        )
+        .unwrap();
+        let run = s.run().unwrap();
+        assert_eq!(run.log.len(), log::MAX_LOG_LINES + 1);
+        let note = run.log.last().unwrap();
+        assert!(note.starts_with("... 8000 more lines dropped"), "{note}");
+        // The next run starts a fresh log.
+        assert_eq!(s.run().unwrap().log, run.log);
     }
 
     #[test]

@@ -243,7 +243,7 @@ pub(crate) struct ScriptController<'a> {
     pub build: BuildContext,
     pub file: &'a str,
     pub source: &'a str,
-    pub log: Rc<RefCell<Vec<String>>>,
+    pub log: Rc<RefCell<super::RunLog>>,
     pub clock: Rc<std::cell::Cell<Option<std::time::Instant>>>,
     pub failure: Option<ScenarioError>,
     /// Starts so far: (time, script line), planned and by rules.

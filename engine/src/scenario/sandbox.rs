@@ -47,7 +47,7 @@ impl rhai::ModuleResolver for NoImports {
 pub(super) fn sandboxed_engine(
     state: &Shared,
     source: Rc<str>,
-    log: Rc<RefCell<Vec<String>>>,
+    log: Rc<RefCell<super::RunLog>>,
     clock: Rc<Cell<Option<Instant>>>,
 ) -> Engine {
     let mut engine = Engine::new_raw();

@@ -2,7 +2,7 @@
 //! (`check/`): `run`, `render-reports`, `fluids`, `patient`, `demo`,
 //! `bench`, `params`, `dump`, `completions`.
 
-use crate::format::{fixed, sig};
+use crate::format::{fixed, sig, terminal_safe};
 use crate::input::{self, patient_rows, RunInput};
 use crate::options::{
     FluidsOptions, PatientOptions, PatientSource, RenderOptions, RunOptions, RunSource, Style,
@@ -40,7 +40,7 @@ pub fn run(opts: RunOptions, style: Style) -> Result<bool> {
     let s = &report.summary;
     if !opts.quiet {
         eprintln!("{}", style.warn(&format!("Caution: {CAUTION}")));
-        eprintln!("{}", s.title);
+        eprintln!("{}", terminal_safe(&s.title));
         eprintln!(
             "serum sodium {} -> {} mmol/L (min {}, max {}); largest rise {} mmol/L in 24 h, {} mmol/L in 48 h",
             fixed(s.sodium.start.mmol_l, 1),
@@ -112,7 +112,11 @@ pub fn run(opts: RunOptions, style: Style) -> Result<bool> {
             } else {
                 style.bad("FAILED")
             };
-            eprintln!("{mark} line {}: {} ({})", e.line, e.description, e.detail);
+            eprintln!(
+                "{mark} line {}: {}",
+                e.line,
+                terminal_safe(&format!("{} ({})", e.description, e.detail))
+            );
         }
         eprintln!("wrote {}", dir.display());
     }
@@ -207,7 +211,7 @@ pub fn fluids(args: FluidsOptions) -> Result<()> {
             ]
         })
         .collect();
-    print!("{}", table(&header, &rows));
+    print!("{}", terminal_safe(&table(&header, &rows)));
     eprintln!("concentrations in mmol/L of solution (albumin in g/L); osm: effective osmolarity 2(Na+K)+glucose+urea");
     Ok(())
 }
@@ -325,7 +329,13 @@ pub fn render_reports(args: RenderOptions, style: Style) -> Result<bool> {
                 });
             }
             Err(e) => {
-                bar.suspend(|| eprintln!("{} {name}: {e:#}", style.bad("error:")));
+                bar.suspend(|| {
+                    eprintln!(
+                        "{} {name}: {}",
+                        style.bad("error:"),
+                        terminal_safe(&format!("{e:#}"))
+                    )
+                });
                 failures.push(name);
             }
         }

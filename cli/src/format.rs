@@ -50,6 +50,29 @@ pub fn fixed(x: f64, decimals: usize) -> String {
     }
 }
 
+/// User text (a script's strings, a fluid's id, an error quoting them) made
+/// safe to echo to a terminal: control characters other than newline and
+/// tab are shown as escapes (`\u{1b}`), so an escape sequence in a file
+/// cannot recolour, move or clear the user's terminal.
+pub fn terminal_safe(text: &str) -> std::borrow::Cow<'_, str> {
+    if !text
+        .chars()
+        .any(|c| c.is_control() && c != '\n' && c != '\t')
+    {
+        return std::borrow::Cow::Borrowed(text);
+    }
+    text.chars()
+        .map(|c| {
+            if c.is_control() && c != '\n' && c != '\t' {
+                c.escape_unicode().to_string()
+            } else {
+                c.to_string()
+            }
+        })
+        .collect::<String>()
+        .into()
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

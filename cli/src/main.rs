@@ -84,7 +84,11 @@ fn main() -> ExitCode {
         Ok(Outcome::Ok) => ExitCode::SUCCESS,
         Ok(Outcome::Failed) => ExitCode::from(1),
         Err(e) => {
-            eprintln!("{} {e:#}", style.bad("error:"));
+            eprintln!(
+                "{} {}",
+                style.bad("error:"),
+                format::terminal_safe(&format!("{e:#}"))
+            );
             ExitCode::from(2)
         }
     }

@@ -389,6 +389,43 @@ fn strict_turns_a_crossed_limit_into_exit_one() {
 }
 
 #[test]
+fn control_bytes_from_a_script_are_escaped_on_the_terminal() {
+    // A fluid id holding an escape sequence (ESC [31m) and a title with a
+    // bell: echoed as visible escapes, never as raw control bytes.
+    let root = tempfile::tempdir().unwrap();
+    let script = root.path().join("esc.rhai");
+    std::fs::write(
+        &script,
+        "patient(#{ sex: \"female\", age_years: 58, weight_kg: 66, na: 140 });\nrun_for(hours(1));\nat(hours(0), infuse(\"sal\\x1b[31mine\", ml(100), minutes(20)));\n",
+    )
+    .unwrap();
+    let out = tidewater(&["run", script.to_str().unwrap(), "--quiet"]);
+    assert_eq!(out.status.code(), Some(2));
+    let err = text(&out.stderr);
+    assert!(err.contains("unknown fluid \"sal\\u{1b}[31mine\""), "{err}");
+    assert!(!err.contains('\u{1b}'), "{err}");
+
+    std::fs::write(
+        &script,
+        "title(\"ring\\x07\");\npatient(#{ sex: \"female\", age_years: 58, weight_kg: 66, na: 140 });\nrun_for(hours(1));\n",
+    )
+    .unwrap();
+    let dir = root.path().join("out");
+    let out = tidewater(&[
+        "run",
+        script.to_str().unwrap(),
+        "--out",
+        dir.to_str().unwrap(),
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let err = text(&out.stderr);
+    assert!(
+        err.contains("ring\\u{7}") && !err.contains('\u{7}'),
+        "{err}"
+    );
+}
+
+#[test]
 fn no_color_keeps_escapes_out() {
     let out = tidewater(&["fluids", "--file", "/no/such/file.yaml"]);
     assert_eq!(out.status.code(), Some(2));

@@ -7,7 +7,7 @@ use thiserror::Error;
 #[derive(Debug, Clone, PartialEq, Error)]
 pub enum InputError {
     /// A numeric field outside its admissible range.
-    #[error("{field} = {value} is outside the admissible range {min}..={max} {unit}")]
+    #[error("{field} = {} is outside the admissible range {min}..={max} {unit}", crate::numeric::show(*.value))]
     OutOfRange {
         /// Name of the field.
         field: String,

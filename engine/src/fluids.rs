@@ -121,7 +121,11 @@ impl Fluid {
                 return Err(InputError::DataFile {
                     file: file.to_string(),
                     location: None,
-                    message: format!("fluid \"{}\": {field} = {v} is outside 0..={max}", self.id),
+                    message: format!(
+                        "fluid \"{}\": {field} = {} is outside 0..={max}",
+                        self.id,
+                        crate::numeric::show(v)
+                    ),
                 });
             }
         }

@@ -348,8 +348,10 @@ pub fn render_text(results: &[CaseResult], style: Style) -> String {
             Status::Failed => style.bad("FAILED "),
             Status::Error => style.bad("ERROR  "),
         };
-        out.push_str(&format!("{mark} {}: {}\n", r.script.display(), r.headline));
+        let headline = crate::format::terminal_safe(&r.headline);
+        out.push_str(&format!("{mark} {}: {headline}\n", r.script.display()));
         for line in r.details.iter().flat_map(|d| d.lines()) {
+            let line = crate::format::terminal_safe(line);
             out.push_str(&format!("        {line}\n"));
         }
     }

@@ -161,7 +161,10 @@ fn checked(ctx: &NativeCallContext, word: &str, x: f64) -> Res<f64> {
     } else {
         fail(
             ctx,
-            format!("{word}({x}): a quantity must be a finite number of zero or more"),
+            format!(
+                "{word}({}): a quantity must be a finite number of zero or more",
+                crate::numeric::show(x)
+            ),
         )
     }
 }

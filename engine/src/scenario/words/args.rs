@@ -26,7 +26,12 @@ pub(super) fn number(d: &Dynamic) -> Option<f64> {
 /// How a value looks in a message: "a bare number 500", "a volume (500 mL)".
 pub(super) fn describe(ctx: &NativeCallContext, d: &Dynamic) -> String {
     if let Some(x) = number(d) {
-        return format!("a bare number ({x})");
+        if !x.is_finite() {
+            return format!(
+                "{x} (not a finite number: a division by zero or an overflow in the script?)"
+            );
+        }
+        return format!("a bare number ({})", crate::numeric::show(x));
     }
     if let Some(v) = d.clone().try_cast::<Duration>() {
         return format!("a duration ({v})");

@@ -184,6 +184,37 @@ fn refuse_foreign_files(dest: &Path, staged: &Path) -> Result<()> {
     )
 }
 
+/// A staging folder older than this was left by a run that was killed: a
+/// report is staged and moved in within seconds, so ten minutes leaves a
+/// wide margin for a run still writing into the same parent.
+const STALE_STAGING: std::time::Duration = std::time::Duration::from_secs(600);
+
+/// Remove the staging folders (`.NAME.partial-*`, `.NAME.old-*`) that killed
+/// runs left beside `dest`. Best effort: a folder that cannot be removed is
+/// left for the next run.
+fn remove_stale_staging(parent: &Path, name: &str) {
+    let Ok(entries) = std::fs::read_dir(parent) else {
+        return;
+    };
+    let prefixes = [format!(".{name}.partial-"), format!(".{name}.old-")];
+    for entry in entries.flatten() {
+        let file_name = entry.file_name().to_string_lossy().to_string();
+        if !prefixes.iter().any(|p| file_name.starts_with(p.as_str())) {
+            continue;
+        }
+        let stale = entry
+            .metadata()
+            .ok()
+            .filter(|m| m.is_dir())
+            .and_then(|m| m.modified().ok())
+            .and_then(|t| t.elapsed().ok())
+            .is_some_and(|age| age > STALE_STAGING);
+        if stale {
+            let _ = std::fs::remove_dir_all(entry.path());
+        }
+    }
+}
+
 fn write_atomically(dest: &Path, fill: impl FnOnce(&Path) -> Result<()>) -> Result<PathBuf> {
     let name = dest
         .file_name()
@@ -198,6 +229,7 @@ fn write_atomically(dest: &Path, fill: impl FnOnce(&Path) -> Result<()>) -> Resu
     if dest.exists() && !dest.is_dir() {
         anyhow::bail!("{}: exists and is not a folder", dest.display());
     }
+    remove_stale_staging(&parent, &name);
     let staging = tempfile::Builder::new()
         .prefix(&format!(".{name}.partial-"))
         .tempdir_in(&parent)
@@ -258,6 +290,32 @@ mod tests {
         assert!(dest.join("new.txt").exists());
         assert!(!dest.join("stale.svg").exists());
         assert_eq!(std::fs::read_dir(root.path()).unwrap().count(), 1);
+    }
+
+    #[test]
+    fn staging_folders_of_killed_runs_are_removed_fresh_ones_kept() {
+        let root = tempfile::tempdir().unwrap();
+        let dest = root.path().join("out");
+        let old = root.path().join(".out.partial-abc123");
+        let fresh = root.path().join(".out.partial-def456");
+        let other = root.path().join(".other.partial-abc123");
+        for d in [&old, &fresh, &other] {
+            std::fs::create_dir(d).unwrap();
+            std::fs::write(d.join("report.html"), "half").unwrap();
+        }
+        let long_ago = std::time::SystemTime::now() - 2 * STALE_STAGING;
+        for d in [&old, &other] {
+            std::fs::File::open(d)
+                .unwrap()
+                .set_modified(long_ago)
+                .unwrap();
+        }
+        write_atomically(&dest, |dir| write_file(&dir.join("new.txt"), b"new")).unwrap();
+        assert!(!old.exists(), "a killed run's staging folder stays");
+        // A fresh one may belong to a run still writing; another name's
+        // folder is not ours to remove.
+        assert!(fresh.exists() && other.exists());
+        assert!(dest.join("new.txt").exists());
     }
 
     #[test]

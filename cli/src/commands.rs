@@ -106,6 +106,15 @@ pub fn run(opts: RunOptions, style: Style) -> Result<bool> {
                 ))
             );
         }
+        if let Some(w) = &s.outside_model_range {
+            eprintln!(
+                "{}",
+                style.bad(&format!(
+                    "warning: {}",
+                    crate::summary::outside_range_text(w)
+                ))
+            );
+        }
         for e in &s.expectations {
             let mark = if e.passed {
                 style.good("held  ")

@@ -3,7 +3,7 @@
 //! goals, the fall-below-start warning, mass balance and solver statistics.
 //! Serialised as `summary.json`.
 
-use crate::format::round_sig;
+use crate::format::{fixed, round_sig, sig};
 use crate::input::{Expectation, RunInput};
 use serde::Serialize;
 use tidewater::goals::GoalStatus;
@@ -160,6 +160,9 @@ pub struct Summary {
     pub goals: Vec<GoalSummary>,
     /// Warning: sodium fell back below its start (hyponatremic start only).
     pub below_start: Option<BelowStartSummary>,
+    /// Warning: serum sodium left the range the model was built for, so
+    /// what follows is extrapolation.
+    pub outside_model_range: Option<tidewater::model_range::OutsideRange>,
     /// Mass balance per species.
     pub mass_balance: Vec<BalanceSummary>,
     /// The Adrogué–Madias prediction for the same infusions and the
@@ -337,6 +340,15 @@ impl Summary {
                 lowest_mmol_l: round_sig(b.lowest_mmol_l, DIGITS),
                 lowest_time_h: round_sig(b.lowest_time_h, DIGITS),
             }),
+            outside_model_range: traj
+                .outside_range
+                .map(|w| tidewater::model_range::OutsideRange {
+                    first_time_h: round_sig(w.first_time_h, DIGITS),
+                    first_mmol_l: round_sig(w.first_mmol_l, DIGITS),
+                    extreme_mmol_l: round_sig(w.extreme_mmol_l, DIGITS),
+                    extreme_time_h: round_sig(w.extreme_time_h, DIGITS),
+                    ..w
+                }),
             mass_balance: traj
                 .balance
                 .iter()
@@ -363,4 +375,17 @@ impl Summary {
     pub fn limit_crossed(&self) -> bool {
         self.flags.iter().any(|f| f.severity == "limit")
     }
+}
+/// The warning that serum sodium left the range the model was built for,
+/// as the terminal and the report say it (after "warning: ").
+pub fn outside_range_text(w: &tidewater::model_range::OutsideRange) -> String {
+    format!(
+        "serum sodium left the range the model was built for ({}-{} mmol/L) at {} h ({} mmol/L; farthest {} mmol/L at {} h): what follows is extrapolation, not a prediction",
+        fixed(w.low_mmol_l, 0),
+        fixed(w.high_mmol_l, 0),
+        sig(w.first_time_h, 4),
+        fixed(w.first_mmol_l, 1),
+        fixed(w.extreme_mmol_l, 1),
+        sig(w.extreme_time_h, 4)
+    )
 }

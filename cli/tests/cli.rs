@@ -426,6 +426,44 @@ fn control_bytes_from_a_script_are_escaped_on_the_terminal() {
 }
 
 #[test]
+fn leaving_the_models_range_is_warned_with_its_time() {
+    // 20 L of 5 % saline in 1 h drives serum sodium far above anything the
+    // model was built for (95-190 mmol/L): the run ends, with a warning.
+    let root = tempfile::tempdir().unwrap();
+    let script = root.path().join("salt.rhai");
+    std::fs::write(
+        &script,
+        "patient(#{ sex: \"female\", age_years: 58, weight_kg: 66, na: 140 });\nrun_for(hours(3));\nat(hours(0), infuse(\"saline_5\", litres(20), hours(1)));\n",
+    )
+    .unwrap();
+    let dir = root.path().join("out");
+    let out = tidewater(&[
+        "run",
+        script.to_str().unwrap(),
+        "--out",
+        dir.to_str().unwrap(),
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let err = text(&out.stderr);
+    assert!(
+        err.contains(
+            "warning: serum sodium left the range the model was built for (95-190 mmol/L) at "
+        ),
+        "{err}"
+    );
+    let summary: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.join("summary.json")).unwrap()).unwrap();
+    let w = &summary["outside_model_range"];
+    assert!(w["first_mmol_l"].as_f64().unwrap() > 190.0, "{w}");
+    assert!(w["first_time_h"].as_f64().unwrap() < 1.0, "{w}");
+    let html = std::fs::read_to_string(dir.join("report.html")).unwrap();
+    assert!(html.contains("what follows is extrapolation"));
+    // An ordinary run carries no such warning.
+    let demo = root.path().join("demo");
+    assert!(!text(&run_demo(&demo).stderr).contains("range the model was built for"));
+}
+
+#[test]
 fn no_color_keeps_escapes_out() {
     let out = tidewater(&["fluids", "--file", "/no/such/file.yaml"]);
     assert_eq!(out.status.code(), Some(2));

@@ -88,6 +88,7 @@ pub mod formulas;
 pub mod goals;
 pub mod limits;
 pub mod model;
+pub mod model_range;
 pub(crate) mod newton_lu;
 pub(crate) mod numeric;
 pub mod observations;

@@ -81,6 +81,8 @@ pub struct Trajectory {
     pub goals: Vec<GoalResult>,
     /// Sodium fell back below its start during a hyponatremia correction.
     pub below_start: Option<BelowStart>,
+    /// Serum sodium left the range the model was built for.
+    pub outside_range: Option<crate::model_range::OutsideRange>,
     /// Mass balance per species.
     pub balance: Vec<Balance>,
     /// Solver statistics.
@@ -162,6 +164,7 @@ impl Trajectory {
         let flags = limits::check(&times, &na, &limits, &situation);
         let goal_results = goals::check(&times, &na, &limits, &situation);
         let below_start = goals::below_start(&times, &na, &situation);
+        let outside_range = crate::model_range::sodium_outside(&times, &na);
         let balance = match (samples.first(), samples.last()) {
             (Some(first), Some(last)) if first.y.len() == N_STATES => Species::ALL
                 .iter()
@@ -193,6 +196,7 @@ impl Trajectory {
             situation,
             goals: goal_results,
             below_start,
+            outside_range,
             balance,
             stats,
         }

@@ -359,7 +359,7 @@ pub fn render(report: &Report) -> String {
 /// warning, under the flags. Goals are no limits: a missed one is shown in
 /// the warning colour of a caution, not as a crossing.
 fn goals_section(out: &mut String, s: &crate::summary::Summary) {
-    if s.goals.is_empty() && s.below_start.is_none() {
+    if s.goals.is_empty() && s.below_start.is_none() && s.outside_model_range.is_none() {
         return;
     }
     out.push_str("<h3 id=\"goals\">Goals</h3>\n<ul>\n");
@@ -394,6 +394,13 @@ fn goals_section(out: &mut String, s: &crate::summary::Summary) {
             sig(b.first_time_h, 4),
             fixed(b.lowest_mmol_l, 1),
             sig(b.lowest_time_h, 4)
+        );
+    }
+    if let Some(w) = &s.outside_model_range {
+        let _ = write!(
+            out,
+            "<li><span class=\"fail\">warning</span>: {}.</li>\n",
+            escape(&crate::summary::outside_range_text(w))
         );
     }
     out.push_str("</ul>\n");

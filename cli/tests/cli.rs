@@ -250,6 +250,36 @@ fn fluids_file_errors_name_file_and_line() {
     assert!(out.stdout.is_empty());
 }
 
+#[test]
+fn yaml_files_that_would_hang_or_mislead_are_refused_at_their_line() {
+    let root = tempfile::tempdir().unwrap();
+    let path = root.path().join("mine.yaml");
+    let refused = |content: String, want: &str| {
+        std::fs::write(&path, content).unwrap();
+        let out = tidewater(&["fluids", "--file", path.to_str().unwrap()]);
+        assert_eq!(out.status.code(), Some(2));
+        let err = text(&out.stderr);
+        assert!(err.contains(want), "want `{want}` in {err}");
+    };
+    // A field given twice: pointed at the line that repeats it (line 6),
+    // not at the start of its map (line 2).
+    refused(
+        "fluids:\n  - id: mine\n    name: Mine\n    kind: given\n    na: 100\n    na: 154\n".into(),
+        "mine.yaml:6:5: fluids[0]: duplicate field `na`",
+    );
+    // 100,000 nested brackets took minutes in the parser.
+    refused(
+        format!("fluids: {}{}\n", "[".repeat(100_000), "]".repeat(100_000)),
+        "mine.yaml:1:",
+    );
+    // 300,000 fluids (15 MB): the id check was quadratic and ran for
+    // minutes; now a count bound.
+    let many: String = std::iter::once("fluids:\n".to_string())
+        .chain((0..300_000).map(|i| format!("  - {{id: f{i}, name: F, kind: given, na: 100}}\n")))
+        .collect();
+    refused(many, "300000 fluids: a fluid file holds at most 10000");
+}
+
 fn patient_json(args: &[&str]) -> serde_json::Value {
     let mut all = vec!["patient", "--json"];
     all.extend_from_slice(args);

@@ -161,6 +161,10 @@ pub struct FluidLibrary {
     pub fluids: Vec<Fluid>,
 }
 
+/// Most fluids one file may hold: the bundled library has about twenty and
+/// a ward's own a handful; 10,000 bounds the time and memory of a load.
+pub const MAX_FLUIDS_PER_FILE: usize = 10_000;
+
 impl FluidLibrary {
     /// The bundled library (parsed once per process).
     pub fn bundled() -> Self {
@@ -175,17 +179,28 @@ impl FluidLibrary {
 
     /// Parse a fluid file; errors name the file, line and field.
     pub fn from_yaml(text: &str, file: &str) -> Result<Self, InputError> {
-        let parsed: FluidFile = serde_yaml::from_str(text).map_err(|e| InputError::DataFile {
+        let parsed: FluidFile = crate::yaml::from_str(text).map_err(|e| InputError::DataFile {
             file: file.to_string(),
-            location: e.location().map(|l| (l.line(), l.column())),
-            message: e.to_string(),
+            location: e.location,
+            message: e.message,
         })?;
         for f in &parsed.fluids {
             f.check(file)?;
         }
+        if parsed.fluids.len() > MAX_FLUIDS_PER_FILE {
+            return Err(InputError::DataFile {
+                file: file.to_string(),
+                location: None,
+                message: format!(
+                    "{} fluids: a fluid file holds at most {MAX_FLUIDS_PER_FILE}",
+                    parsed.fluids.len()
+                ),
+            });
+        }
         let mut lib = FluidLibrary { fluids: Vec::new() };
+        let mut ids = std::collections::HashSet::new();
         for f in parsed.fluids {
-            if lib.fluids.iter().any(|g| g.id == f.id) {
+            if !ids.insert(f.id.clone()) {
                 return Err(InputError::DataFile {
                     file: file.to_string(),
                     location: None,

@@ -106,6 +106,7 @@ pub mod textfile;
 pub mod trajectory;
 pub mod units;
 pub mod validation;
+pub mod yaml;
 
 pub use body::{Body, Species, N_STATES_BODY, S};
 pub use error::{InputError, SimulationError};

@@ -399,10 +399,10 @@ impl Patient {
 
 /// Parse a patient from YAML text; errors name the file, line and field.
 pub fn patient_from_yaml(text: &str, file: &str) -> Result<Patient, InputError> {
-    serde_yaml::from_str(text).map_err(|e| InputError::DataFile {
+    crate::yaml::from_str(text).map_err(|e| InputError::DataFile {
         file: file.to_string(),
-        location: e.location().map(|l| (l.line(), l.column())),
-        message: e.to_string(),
+        location: e.location,
+        message: e.message,
     })
 }
 

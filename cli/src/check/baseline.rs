@@ -330,7 +330,7 @@ mod tests {
         );
         assert_eq!(
             e.to_string(),
-            "baseline b.csv:4: column `na_mmol_l`: `11x8` is not a number"
+            "baseline b.csv:4:2: column `na_mmol_l`: `11x8` is not a number"
         );
         let e = parse("time_h,na_mmol_l\n0,118,3\n", &p()).unwrap_err();
         assert!(e.message.contains("3 values where the header has 2"), "{e}");

@@ -189,12 +189,16 @@ impl Tolerances {
         let file: FileText = if text.trim().is_empty() {
             FileText::default()
         } else {
-            serde_yaml::from_str(text).map_err(|e| {
+            tidewater::yaml::from_str(text).map_err(|e| {
                 let at = e
-                    .location()
-                    .map(|l| format!(":{}:{}", l.line(), l.column()))
+                    .location
+                    .map(|(l, c)| format!(":{l}:{c}"))
                     .unwrap_or_default();
-                ToleranceError(format!("tolerance file {}{at}: {e}", path.display()))
+                ToleranceError(format!(
+                    "tolerance file {}{at}: {}",
+                    path.display(),
+                    e.message
+                ))
             })?
         };
         let place = |key: &str| {

@@ -232,10 +232,10 @@ fn default_balance_share() -> f64 {
 impl SweepSpec {
     /// Parse and check a spec; errors name the file, line and field.
     pub fn from_yaml(text: &str, file: &str) -> Result<Self, SweepError> {
-        let spec: SweepSpec = serde_yaml::from_str(text).map_err(|e| SweepError::Syntax {
+        let spec: SweepSpec = crate::yaml::from_str(text).map_err(|e| SweepError::Syntax {
             file: file.to_string(),
-            location: e.location().map(|l| (l.line(), l.column())),
-            message: e.to_string(),
+            location: e.location,
+            message: e.message,
         })?;
         spec.check(file)?;
         Ok(spec)

@@ -54,10 +54,10 @@ impl Dossier {
     /// Check the text of a checks file; scenarios are looked up in
     /// `dir/scenarios/`.
     pub fn from_text(dir: &Path, file: &str, text: &str) -> Result<Dossier, ValidationError> {
-        let raw: RawDossier = serde_yaml::from_str(text).map_err(|e| ValidationError::Parse {
+        let raw: RawDossier = crate::yaml::from_str(text).map_err(|e| ValidationError::Parse {
             file: file.to_string(),
-            location: e.location().map(|l| (l.line(), l.column())),
-            message: e.to_string(),
+            location: e.location,
+            message: e.message,
         })?;
         let lines = id_lines(text);
         let mut seen = BTreeSet::new();

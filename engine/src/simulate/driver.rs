@@ -332,6 +332,16 @@ impl Simulation {
                 schedule.apply(t, a);
             }
         }
+        if schedule.running_count() > super::schedule::MAX_RUNNING_STREAMS {
+            return Err(SimulationError::Controller {
+                time_h: t,
+                message: format!(
+                    "{} streams (infusions, drinks, losses) would run at once; at most {} may (a rule that starts streams on every check without stopping them?)",
+                    schedule.running_count(),
+                    super::schedule::MAX_RUNNING_STREAMS
+                ),
+            });
+        }
         Ok(schedule.inputs())
     }
 }

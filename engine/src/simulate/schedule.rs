@@ -26,6 +26,12 @@ pub(super) struct Schedule {
     pub(super) model_changes: Vec<Action>,
 }
 
+/// Most streams (infusions, drinks, losses, the habitual intake) running
+/// at once. A ward runs a handful of lines at a time (common practice);
+/// 1,000 is far beyond any protocol and bounds what each step of the
+/// solver sums, and the memory a runaway rule can take.
+pub const MAX_RUNNING_STREAMS: usize = 1_000;
+
 /// Two times closer than this, h, are the same moment.
 pub(super) const EPS_H: f64 = 1e-9;
 
@@ -99,6 +105,11 @@ impl Schedule {
             next = next.min(r.end_h);
         }
         next.max(t)
+    }
+
+    /// How many streams are running.
+    pub(super) fn running_count(&self) -> usize {
+        self.running.len()
     }
 
     /// Give the running streams with this label new rates.

@@ -163,6 +163,9 @@ pub struct RenderArgs {
     /// Folder of rendered reports.
     #[arg(default_value = "reports")]
     pub reports: PathBuf,
+    /// Also render the built-in demonstration case (into `demo/`).
+    #[arg(long)]
+    pub demo: bool,
 }
 
 /// Options of `fluids`.
@@ -220,10 +223,10 @@ pub struct PatientArgs {
     /// guideline goals apply).
     #[arg(long)]
     pub symptoms: Option<String>,
-    /// Cause (see `tidewater patient --help` of the engine docs): none,
-    /// hypovolemic, inappropriate_antidiuresis, reset_osmostat,
-    /// low_solute_intake, primary_polydipsia, diuretic_induced,
-    /// insulin_deficiency.
+    /// Cause of the disorder: none, hypovolemic, inappropriate_antidiuresis
+    /// (also SIAD or SIADH), reset_osmostat, low_solute_intake,
+    /// primary_polydipsia, diuretic_induced, insulin_deficiency,
+    /// inadequate_water_intake (scenarios/README.md describes each).
     #[arg(long)]
     pub cause: Option<String>,
     /// Total body water method: fraction or watson.

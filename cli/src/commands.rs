@@ -221,7 +221,7 @@ pub fn fluids(args: FluidsOptions) -> Result<()> {
         })
         .collect();
     print!("{}", terminal_safe(&table(&header, &rows)));
-    eprintln!("concentrations in mmol/L of solution (albumin in g/L); osm: effective osmolarity 2(Na+K)+glucose+urea");
+    eprintln!("concentrations in mmol/L of solution (albumin in g/L); osm: osmolarity 2(Na+K)+glucose+urea (urea crosses cell membranes freely, so it adds to osmolarity but not to tonicity)");
     Ok(())
 }
 
@@ -303,14 +303,18 @@ pub fn render_reports(args: RenderOptions, style: Style) -> Result<bool> {
         anyhow::bail!("{}: no such folder", args.scenarios.display());
     }
     let scripts = scripts::in_folder(&args.scenarios)?;
-    let bar = crate::progress::bar(scripts.len() as u64 + 1, "rendering", style);
+    let mut jobs: Vec<(String, Option<PathBuf>)> = Vec::new();
+    if args.demo {
+        jobs.push(("demo".into(), None));
+    }
+    // Each report's folder is named after its script's file, as the user
+    // named it (`acute_120.rhai` -> `acute_120/`).
+    for s in scripts {
+        jobs.push((scripts::stem(&s), Some(s)));
+    }
+    let bar = crate::progress::bar(jobs.len() as u64, "rendering", style);
     let mut all_hold = true;
     let mut failures: Vec<String> = Vec::new();
-    let mut jobs: Vec<(String, Option<PathBuf>)> = vec![("demo".into(), None)];
-    for s in scripts {
-        let name = input::slug(&scripts::stem(&s));
-        jobs.push((name, Some(s)));
-    }
     for (name, script) in jobs {
         bar.set_message(name.clone());
         let result = (|| -> Result<bool> {

@@ -127,6 +127,7 @@ impl Task {
             Command::RenderReports(a) => Task::RenderReports(RenderOptions {
                 scenarios: a.scenarios,
                 reports: a.reports,
+                demo: a.demo,
             }),
             Command::Fluids(a) => Task::Fluids(FluidsOptions {
                 json: a.json,
@@ -199,8 +200,11 @@ impl RunOptions {
 pub struct RenderOptions {
     /// Folder of scenario scripts.
     pub scenarios: PathBuf,
-    /// Folder of rendered reports (one folder per scenario inside).
+    /// Folder of rendered reports (one folder per scenario inside, named
+    /// after the script's file).
     pub reports: PathBuf,
+    /// Also render the demonstration case.
+    pub demo: bool,
 }
 
 /// Settings of `fluids`.

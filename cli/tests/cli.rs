@@ -280,6 +280,38 @@ fn yaml_files_that_would_hang_or_mislead_are_refused_at_their_line() {
     refused(many, "300000 fluids: a fluid file holds at most 10000");
 }
 
+#[test]
+fn render_reports_names_folders_after_scripts_and_adds_the_demo_only_when_asked() {
+    let root = tempfile::tempdir().unwrap();
+    let scripts = root.path().join("s");
+    std::fs::create_dir(&scripts).unwrap();
+    std::fs::write(
+        scripts.join("acute_120.rhai"),
+        "patient(#{ sex: \"female\", age_years: 30, weight_kg: 60, na: 140 });\nrun_for(hours(1));\n",
+    )
+    .unwrap();
+    let reports = root.path().join("r");
+    let dirs = || {
+        let mut d: Vec<String> = std::fs::read_dir(&reports)
+            .unwrap()
+            .map(|e| e.unwrap().file_name().to_string_lossy().to_string())
+            .collect();
+        d.sort();
+        d
+    };
+    let args = [
+        "render-reports",
+        scripts.to_str().unwrap(),
+        reports.to_str().unwrap(),
+    ];
+    let out = tidewater(&args);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    assert_eq!(dirs(), ["acute_120"]);
+    let out = tidewater(&[&args[..], &["--demo"]].concat());
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    assert_eq!(dirs(), ["acute_120", "demo"]);
+}
+
 fn patient_json(args: &[&str]) -> serde_json::Value {
     let mut all = vec!["patient", "--json"];
     all.extend_from_slice(args);

@@ -168,3 +168,21 @@ impl Cause {
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn clinicians_abbreviations_name_inappropriate_antidiuresis() {
+        // SIAD / SIADH: the abbreviations in clinical use (common practice).
+        for name in ["SIADH", "SIAD", "siadh", "inappropriate antidiuresis"] {
+            assert_eq!(
+                Cause::parse(name).unwrap(),
+                Cause::InappropriateAntidiuresis,
+                "{name}"
+            );
+        }
+        assert!(Cause::parse("siadhh").is_err());
+    }
+}

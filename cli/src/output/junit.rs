@@ -5,6 +5,7 @@ use super::{Output, OutputFile};
 use crate::check::{CaseResult, Status};
 use anyhow::Result;
 use std::fmt::Write;
+use std::path::Path;
 
 /// The JUnit XML output of a check, under the file name the user chose.
 pub struct JunitXml {
@@ -56,8 +57,13 @@ pub fn render(results: &[CaseResult]) -> String {
         "  <testsuite name=\"tidewater check\" {counts} skipped=\"0\">"
     );
     for r in results {
-        let classname = r
-            .script
+        // The folder as the user sees it from the working folder, so an
+        // absolute path gives `scenarios`, not `.work.main.scenarios`.
+        let shown = std::env::current_dir()
+            .ok()
+            .and_then(|cwd| r.script.strip_prefix(cwd).ok().map(Path::to_path_buf))
+            .unwrap_or_else(|| r.script.clone());
+        let classname = shown
             .parent()
             .map(|p| p.to_string_lossy().replace(['/', '\\'], "."))
             .filter(|p| !p.is_empty())
@@ -128,6 +134,14 @@ mod tests {
             "{xml}"
         );
         assert!(xml.contains("classname=\"scenarios\""), "{xml}");
+        // An absolute path under the working folder is shown relative to it.
+        let cwd = std::env::current_dir().unwrap();
+        let absolute = CaseResult {
+            script: cwd.join("scenarios").join("c.rhai"),
+            ..case("c", Status::Passed, "held", vec![])
+        };
+        let xml2 = render(&[absolute]);
+        assert!(xml2.contains("classname=\"scenarios\""), "{xml2}");
         assert!(xml.ends_with("</testsuites>\n"));
         // Well formed: every opened testcase is closed.
         assert_eq!(

@@ -73,9 +73,38 @@ pub fn terminal_safe(text: &str) -> std::borrow::Cow<'_, str> {
         .into()
 }
 
+/// A time or duration in hours as people say it: `20 min`, `2 h`,
+/// `1 h 30 min`, `0 h`; a time that is no whole number of minutes keeps
+/// its hours (`0.1234 h`).
+pub fn hours_text(h: f64) -> String {
+    let minutes = h * 60.0;
+    let whole = minutes.round();
+    if !h.is_finite() || h < 0.0 || (minutes - whole).abs() > 1e-6 * minutes.max(1.0) {
+        return format!("{} h", sig(h, 4));
+    }
+    let m = whole as u64;
+    match (m / 60, m % 60) {
+        (0, 0) => "0 h".into(),
+        (0, m) => format!("{m} min"),
+        (h, 0) => format!("{h} h"),
+        (h, m) => format!("{h} h {m} min"),
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn hours_read_as_people_say_them() {
+        assert_eq!(hours_text(0.0), "0 h");
+        assert_eq!(hours_text(1.0 / 3.0), "20 min");
+        assert_eq!(hours_text(1.0 / 6.0), "10 min");
+        assert_eq!(hours_text(2.0), "2 h");
+        assert_eq!(hours_text(1.5), "1 h 30 min");
+        assert_eq!(hours_text(48.25), "48 h 15 min");
+        assert_eq!(hours_text(0.1234), "0.1234 h");
+    }
 
     #[test]
     fn significant_digits() {

@@ -4,7 +4,7 @@
 //! scenario script). Everything downstream (summary, CSV, JSON, charts,
 //! HTML) reads only a `RunInput`.
 
-use crate::format::fixed;
+use crate::format::{fixed, hours_text};
 use anyhow::{Context, Result};
 use serde::Serialize;
 use std::path::Path;
@@ -410,20 +410,21 @@ pub fn describe_stream(s: &Stream) -> String {
     if r.thiazide_effect > 0.0 {
         parts.push("thiazide effect".into());
     }
-    let mut text = format!("start {}", s.label);
-    if !parts.is_empty() {
-        text.push_str(&format!(": {}", parts.join(", ")));
+    let rates = parts.join(", ");
+    let water = r.water_in_l_h + r.oral_water_l_h;
+    match s.duration_h {
+        // A volume given over a time: what a clinician writes on a chart.
+        Some(d) if water > 0.0 => format!(
+            "start {}: {} mL over {} ({rates})",
+            s.label,
+            fixed(water * d * 1000.0, 0),
+            hours_text(d)
+        ),
+        Some(d) if !parts.is_empty() => format!("start {}: {rates} for {}", s.label, hours_text(d)),
+        Some(d) => format!("start {} for {}", s.label, hours_text(d)),
+        None if !parts.is_empty() => format!("start {}: {rates} until stopped", s.label),
+        None => format!("start {} until stopped", s.label),
     }
-    if let Some(d) = s.duration_h {
-        text.push_str(&format!(" for {} h", crate::format::sig(d, 3)));
-        let water = r.water_in_l_h + r.oral_water_l_h;
-        if water > 0.0 {
-            text.push_str(&format!(" ({} mL in all)", fixed(water * d * 1000.0, 0)));
-        }
-    } else {
-        text.push_str(" until stopped");
-    }
-    text
 }
 
 /// The plan in words.
@@ -443,6 +444,11 @@ pub fn plan_summary(plan: &Plan) -> PlanSummary {
         })
         .collect();
     events.sort_by(|a, b| a.time_h.total_cmp(&b.time_h));
+    // Stopping the same stream twice at one moment (a restriction and a
+    // nil-by-mouth both stop the habitual intake) is one action.
+    events.dedup_by(|b, a| {
+        a.text.starts_with("stop ") && a.text == b.text && (a.time_h - b.time_h).abs() < 1e-9
+    });
     PlanSummary {
         duration_h: plan.duration_h,
         sample_every_h: plan.sample_every_h,
@@ -474,10 +480,11 @@ mod tests {
         assert_eq!(plan.events.len(), 4);
         // 150 mL over 20 min is 450 mL/h.
         assert!(
-            plan.events[0].text.contains("450 mL/h in"),
+            plan.events[0]
+                .text
+                .contains(": 150 mL over 20 min (450 mL/h in"),
             "{:?}",
             plan.events[0]
         );
-        assert!(plan.events[0].text.contains("(150 mL in all)"));
     }
 }

@@ -103,6 +103,9 @@ pub struct BalanceSummary {
     pub species: String,
     /// Unit of the amounts.
     pub unit: String,
+    /// What `intake` holds: what was given, and what the body made (urea
+    /// from protein, glucose by the liver, water by metabolism).
+    pub intake_includes: String,
     /// Content at the start.
     pub start: f64,
     /// Content at the end.
@@ -355,6 +358,7 @@ impl Summary {
                 .map(|b| BalanceSummary {
                     species: b.species.into(),
                     unit: b.unit.into(),
+                    intake_includes: b.intake_includes.into(),
                     start: round_sig(b.start, DIGITS),
                     end: round_sig(b.end, DIGITS),
                     intake: round_sig(b.intake, DIGITS),

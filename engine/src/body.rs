@@ -223,6 +223,19 @@ impl Species {
         }
     }
 
+    /// What the ledger counts as entering the body: more than what was
+    /// given for water (thirst, metabolism), urea (made from protein) and
+    /// glucose (made by the liver).
+    pub fn inflow(self) -> &'static str {
+        match self {
+            Species::Water => "given, drunk and made by metabolism",
+            Species::Sodium | Species::Potassium => "given and eaten",
+            Species::Urea => "given and made from protein",
+            Species::Glucose => "given, eaten and made by the liver",
+            Species::Albumin => "given",
+        }
+    }
+
     /// Unit of the amounts.
     pub fn unit(self) -> &'static str {
         match self {

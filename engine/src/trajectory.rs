@@ -48,11 +48,14 @@ pub struct Balance {
     pub species: &'static str,
     /// Unit of the amounts.
     pub unit: &'static str,
+    /// What `intake` holds ([`Species::inflow`]).
+    pub intake_includes: &'static str,
     /// Content at the start.
     pub start: f64,
     /// Content at the end.
     pub end: f64,
-    /// Cumulative intake.
+    /// Cumulative intake (given, and what the body makes: see
+    /// `intake_includes`).
     pub intake: f64,
     /// Cumulative output.
     pub output: f64,
@@ -171,6 +174,7 @@ impl Trajectory {
                 .map(|&sp| Balance {
                     species: sp.name(),
                     unit: sp.unit(),
+                    intake_includes: sp.inflow(),
                     start: sp.content(&first.y),
                     end: sp.content(&last.y),
                     intake: sp.cumulative_in(&last.y),

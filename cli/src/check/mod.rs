@@ -291,7 +291,11 @@ fn check_one(job: &Job, update: bool, require_baseline: bool, every_h: f64) -> C
             details,
         );
     }
-    let expect_text = format!("{held} of {expectations} expectations held");
+    let expect_text = if expectations == 0 {
+        "no expectations".to_string()
+    } else {
+        format!("{held} of {expectations} expectations held")
+    };
     match comparison {
         Some(c) if c.holds() && details.is_empty() => result(
             Status::Passed,

@@ -274,8 +274,8 @@ pub fn render(report: &Report) -> String {
     for e in &p.events {
         let _ = write!(
             out,
-            "<tr><td class=\"num\">{} h</td><td>{}</td></tr>\n",
-            sig(e.time_h, 4),
+            "<tr><td class=\"num\">{}</td><td>{}</td></tr>\n",
+            crate::format::hours_text(e.time_h),
             escape(&e.text)
         );
     }
@@ -314,18 +314,19 @@ pub fn render(report: &Report) -> String {
     }
 
     // Mass balance and solver.
-    out.push_str("<h2 id=\"balance\">Mass balance</h2>\n<table><tr><th>Species</th><th>Start</th><th>Intake</th><th>Output</th><th>End</th><th>Largest relative residual</th></tr>\n");
+    out.push_str("<h2 id=\"balance\">Mass balance</h2>\n<table><tr><th>Species</th><th>Start</th><th>In</th><th>Out</th><th>End</th><th>Largest relative residual</th></tr>\n");
     for b in &s.mass_balance {
         let _ = write!(
             out,
-            "<tr><td>{} ({})</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{:.1e}</td></tr>\n",
+            "<tr><td>{} ({})</td><td class=\"num\">{}</td><td class=\"num\">{} <small>({})</small></td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td></tr>\n",
             escape(&b.species),
             escape(&b.unit),
             sig(b.start, 5),
             sig(b.intake, 5),
+            escape(&b.intake_includes),
             sig(b.output, 5),
             sig(b.end, 5),
-            b.max_relative_residual
+            residual_text(b.max_relative_residual)
         );
     }
     out.push_str("</table>\n");
@@ -404,4 +405,25 @@ fn goals_section(out: &mut String, s: &crate::summary::Summary) {
         );
     }
     out.push_str("</ul>\n");
+}
+/// A relative residual as the balance table shows it: scientific notation,
+/// and "below 1e-12" for what is rounding (an exact 0 printed `0.0e0`).
+fn residual_text(r: f64) -> String {
+    if r.abs() < 1e-12 {
+        "below 1e-12".into()
+    } else {
+        format!("{r:.1e}")
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn residuals_below_rounding_are_said_so() {
+        assert_eq!(residual_text(0.0), "below 1e-12");
+        assert_eq!(residual_text(3e-15), "below 1e-12");
+        assert_eq!(residual_text(2.46e-9), "2.5e-9");
+    }
 }

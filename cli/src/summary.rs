@@ -118,6 +118,51 @@ pub struct BalanceSummary {
     pub max_relative_residual: f64,
 }
 
+/// What one stream gave or took over the run (rates times the hours it
+/// ran), in units a chart is written in.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct StreamTotalSummary {
+    /// The stream's label (the fluid's id unless the script named it;
+    /// `habitual` is the ordinary drinking and eating).
+    pub stream: String,
+    /// Volume given by vein and by mouth, mL.
+    pub volume_in_ml: f64,
+    /// Of it, by mouth or into the gut, mL.
+    pub volume_oral_ml: f64,
+    /// Sodium given, mmol.
+    pub na_in_mmol: f64,
+    /// Potassium given, mmol.
+    pub k_in_mmol: f64,
+    /// Volume removed (losses of fixed composition and blood), mL.
+    pub volume_out_ml: f64,
+    /// Sodium removed in those losses, mmol.
+    pub na_out_mmol: f64,
+    /// Desmopressin given, ug.
+    pub desmopressin_ug: f64,
+    /// Loop diuretic given, mg.
+    pub loop_diuretic_mg: f64,
+    /// Oral V2 antagonist absorbed, mg.
+    pub v2_antagonist_mg: f64,
+}
+
+impl StreamTotalSummary {
+    fn of(t: &tidewater::trajectory::StreamTotal) -> Self {
+        let r = |x: f64| round_sig(x, DIGITS);
+        StreamTotalSummary {
+            stream: t.label.clone(),
+            volume_in_ml: r((t.water_in_l + t.oral_water_l) * 1000.0),
+            volume_oral_ml: r(t.oral_water_l * 1000.0),
+            na_in_mmol: r(t.na_in_mmol),
+            k_in_mmol: r(t.k_in_mmol),
+            volume_out_ml: r((t.water_out_l + t.blood_loss_l) * 1000.0),
+            na_out_mmol: r(t.na_out_mmol),
+            desmopressin_ug: r(t.desmopressin_ug),
+            loop_diuretic_mg: r(t.loop_diuretic_mg),
+            v2_antagonist_mg: r(t.v2_antagonist_mg),
+        }
+    }
+}
+
 /// The guideline set in force.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct GuidelineSummary {
@@ -168,6 +213,9 @@ pub struct Summary {
     pub outside_model_range: Option<tidewater::model_range::OutsideRange>,
     /// Mass balance per species.
     pub mass_balance: Vec<BalanceSummary>,
+    /// What each stream gave or took over the run, in the order the
+    /// streams first ran.
+    pub given: Vec<StreamTotalSummary>,
     /// The Adrogué–Madias prediction for the same infusions and the
     /// attribution of the difference (none for an empty run).
     pub bedside_formula: Option<crate::bedside_summary::FormulaSummary>,
@@ -352,6 +400,11 @@ impl Summary {
                     extreme_time_h: round_sig(w.extreme_time_h, DIGITS),
                     ..w
                 }),
+            given: traj
+                .stream_totals
+                .iter()
+                .map(StreamTotalSummary::of)
+                .collect(),
             mass_balance: traj
                 .balance
                 .iter()

@@ -75,7 +75,7 @@ fn an_unchanged_scenario_passes_its_baseline() {
     let out = tidewater(dir, &["check", "--require-baseline", "."]);
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stdout));
     assert!(
-        text(&out.stdout).contains("13 key samples x 18 columns within tolerance"),
+        text(&out.stdout).contains("13 key samples x 22 columns within tolerance"),
         "{}",
         text(&out.stdout)
     );
@@ -249,7 +249,7 @@ fn bad_baselines_give_clear_errors() {
         ),
         (
             good.lines().take(5).collect::<Vec<_>>().join("\n") + ",1\n",
-            ":5: 20 values where the header has 19 columns",
+            ":5: 24 values where the header has 23 columns",
         ),
         (String::new(), "is empty"),
     ];

@@ -16,7 +16,7 @@ fn text(bytes: &[u8]) -> String {
     String::from_utf8_lossy(bytes).into_owned()
 }
 
-const COLUMNS: &str = "time_h,na_mmol_l,k_mmol_l,glucose_mmol_l,urea_mmol_l,albumin_g_l,osmolality_mosm_kg,tonicity_mosm_kg,cells_l,red_cells_l,interstitium_l,plasma_l,brain_volume_index,urine_ml_h,urine_osm_mosm_kg,urine_na_mmol_l,efwc_ml_h,hematocrit,na_change_24h_mmol_l";
+const COLUMNS: &str = "time_h,na_mmol_l,k_mmol_l,glucose_mmol_l,urea_mmol_l,albumin_g_l,osmolality_mosm_kg,tonicity_mosm_kg,cells_l,red_cells_l,interstitium_l,plasma_l,brain_volume_index,urine_ml_h,urine_osm_mosm_kg,urine_na_mmol_l,efwc_ml_h,hematocrit,na_change_24h_mmol_l,water_in_cum_l,water_out_cum_l,na_in_cum_mmol,na_out_cum_mmol";
 
 fn run_demo(out: &Path) -> Output {
     tidewater(&["run", "--demo", "--out", out.to_str().unwrap()])

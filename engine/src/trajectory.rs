@@ -63,6 +63,52 @@ pub struct Balance {
     pub max_relative_residual: f64,
 }
 
+/// What one stream (named by its label: the fluid's id unless the script
+/// named it) put into or took out of the body over the whole run: its rates
+/// times the hours it ran, so a stream stopped early or changed by a rule
+/// counts what it really gave.
+#[derive(Debug, Clone, Default, PartialEq, Serialize)]
+pub struct StreamTotal {
+    /// The stream's label.
+    pub label: String,
+    /// Water infused, L.
+    pub water_in_l: f64,
+    /// Water drunk or given into the gut, L.
+    pub oral_water_l: f64,
+    /// Sodium given by any route, mmol.
+    pub na_in_mmol: f64,
+    /// Potassium given by any route, mmol.
+    pub k_in_mmol: f64,
+    /// Water removed in losses of fixed composition, L.
+    pub water_out_l: f64,
+    /// Sodium removed in those losses, mmol.
+    pub na_out_mmol: f64,
+    /// Whole blood removed, L.
+    pub blood_loss_l: f64,
+    /// Desmopressin given, ug.
+    pub desmopressin_ug: f64,
+    /// Loop diuretic given, mg.
+    pub loop_diuretic_mg: f64,
+    /// Oral V2 antagonist absorbed, mg.
+    pub v2_antagonist_mg: f64,
+}
+
+impl StreamTotal {
+    /// Add `hours` of the rates `r`.
+    pub fn add(&mut self, r: &crate::model::Inputs, hours: f64) {
+        self.water_in_l += r.water_in_l_h * hours;
+        self.oral_water_l += r.oral_water_l_h * hours;
+        self.na_in_mmol += (r.na_in_mmol_h + r.oral_na_mmol_h) * hours;
+        self.k_in_mmol += (r.k_in_mmol_h + r.oral_k_mmol_h) * hours;
+        self.water_out_l += r.water_out_l_h * hours;
+        self.na_out_mmol += r.na_out_mmol_h * hours;
+        self.blood_loss_l += r.blood_loss_l_h * hours;
+        self.desmopressin_ug += (r.desmopressin_ug_h + r.desmopressin_depot_ug_h) * hours;
+        self.loop_diuretic_mg += (r.loop_diuretic_mg_h + r.loop_diuretic_depot_mg_h) * hours;
+        self.v2_antagonist_mg += r.v2_antagonist_mg_h * hours;
+    }
+}
+
 /// The output of a [`crate::Simulation`].
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Trajectory {
@@ -88,6 +134,8 @@ pub struct Trajectory {
     pub outside_range: Option<crate::model_range::OutsideRange>,
     /// Mass balance per species.
     pub balance: Vec<Balance>,
+    /// What each stream gave or took, in the order the streams first ran.
+    pub stream_totals: Vec<StreamTotal>,
     /// Solver statistics.
     pub stats: SolverStats,
 }
@@ -202,6 +250,7 @@ impl Trajectory {
             below_start,
             outside_range,
             balance,
+            stream_totals: Vec::new(),
             stats,
         }
     }

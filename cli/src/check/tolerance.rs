@@ -64,6 +64,9 @@ pub fn default_for(column: usize) -> Tolerance {
         "brain_volume_index" | "hematocrit" => t(1e-4, 0.0),
         // Urine: flows and concentrations move fast after an input change.
         "urine_ml_h" | "urine_osm_mosm_kg" | "urine_na_mmol_l" | "efwc_ml_h" => t(0.5, 1e-3),
+        // Cumulative amounts: 1 mL and 0.1 mmol, or 1e-4 of the total.
+        "water_in_cum_l" | "water_out_cum_l" => t(0.001, 1e-4),
+        "na_in_cum_mmol" | "na_out_cum_mmol" => t(0.1, 1e-4),
         _ => t(0.0, 0.0),
     }
 }

@@ -5,10 +5,10 @@ use super::report::Report;
 use super::{Output, OutputFile};
 use crate::format::sig;
 use anyhow::Result;
-use tidewater::Trajectory;
+use tidewater::{Species, Trajectory};
 
 /// The column names, in order (a contract: tests and users rely on them).
-pub const COLUMNS: [&str; 19] = [
+pub const COLUMNS: [&str; 23] = [
     "time_h",
     "na_mmol_l",
     "k_mmol_l",
@@ -28,6 +28,13 @@ pub const COLUMNS: [&str; 19] = [
     "efwc_ml_h",
     "hematocrit",
     "na_change_24h_mmol_l",
+    // Cumulative since the start, from the mass-balance ledger: water in
+    // (given, drunk, thirst, metabolic water) and out (urine, insensible,
+    // losses, blood), sodium in (given and eaten) and out (urine, losses).
+    "water_in_cum_l",
+    "water_out_cum_l",
+    "na_in_cum_mmol",
+    "na_out_cum_mmol",
 ];
 
 /// Significant digits of every number.
@@ -63,6 +70,10 @@ pub fn values(traj: &Trajectory) -> Vec<[f64; COLUMNS.len()]> {
                 o.efwc_ml_h,
                 o.hematocrit,
                 *c24,
+                Species::Water.cumulative_in(&s.y),
+                Species::Water.cumulative_out(&s.y),
+                Species::Sodium.cumulative_in(&s.y),
+                Species::Sodium.cumulative_out(&s.y),
             ]
         })
         .collect()

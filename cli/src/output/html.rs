@@ -313,6 +313,8 @@ pub fn render(report: &Report) -> String {
         );
     }
 
+    given_section(&mut out, s);
+
     // Mass balance and solver.
     out.push_str("<h2 id=\"balance\">Mass balance</h2>\n<table><tr><th>Species</th><th>Start</th><th>In</th><th>Out</th><th>End</th><th>Largest relative residual</th></tr>\n");
     for b in &s.mass_balance {
@@ -406,6 +408,53 @@ fn goals_section(out: &mut String, s: &crate::summary::Summary) {
     }
     out.push_str("</ul>\n");
 }
+/// The table of what each stream gave or took over the run: volume,
+/// sodium and potassium in, volume and sodium out, drugs.
+fn given_section(out: &mut String, s: &crate::summary::Summary) {
+    if s.given.is_empty() {
+        return;
+    }
+    out.push_str("<h2 id=\"given\">Given and removed</h2>\n<table><tr><th>Stream</th><th>In (mL)</th><th>Na in (mmol)</th><th>K in (mmol)</th><th>Out (mL)</th><th>Na out (mmol)</th><th>Drugs</th></tr>\n");
+    let cell = |x: f64, digits: usize| {
+        if x == 0.0 {
+            String::new()
+        } else {
+            fixed(x, digits)
+        }
+    };
+    for g in &s.given {
+        let mut drugs = Vec::new();
+        if g.desmopressin_ug > 0.0 {
+            drugs.push(format!("desmopressin {} ug", sig(g.desmopressin_ug, 3)));
+        }
+        if g.loop_diuretic_mg > 0.0 {
+            drugs.push(format!("loop diuretic {} mg", sig(g.loop_diuretic_mg, 3)));
+        }
+        if g.v2_antagonist_mg > 0.0 {
+            drugs.push(format!("V2 antagonist {} mg", sig(g.v2_antagonist_mg, 3)));
+        }
+        let name = if g.stream == "habitual" {
+            "habitual (ordinary drinking and eating)".to_string()
+        } else if g.volume_oral_ml > 0.0 && g.volume_oral_ml >= g.volume_in_ml - 1e-9 {
+            format!("{} (by mouth)", g.stream)
+        } else {
+            g.stream.clone()
+        };
+        let _ = write!(
+            out,
+            "<tr><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td>{}</td></tr>\n",
+            escape(&name),
+            cell(g.volume_in_ml, 0),
+            cell(g.na_in_mmol, 1),
+            cell(g.k_in_mmol, 1),
+            cell(g.volume_out_ml, 0),
+            cell(g.na_out_mmol, 1),
+            escape(&drugs.join(", "))
+        );
+    }
+    out.push_str("</table>\n");
+}
+
 /// A relative residual as the balance table shows it: scientific notation,
 /// and "below 1e-12" for what is rounding (an exact 0 printed `0.0e0`).
 fn residual_text(r: f64) -> String {

@@ -230,12 +230,14 @@ impl Simulation {
             refresh(&problem, &mut state);
         }
         add_rhs_statistics(&mut stats, &problem);
-        Ok(Trajectory::from_samples(
+        let mut trajectory = Trajectory::from_samples(
             samples,
             plan.limits.clone(),
             crate::limits::Situation::of(&self.patient),
             stats,
-        ))
+        );
+        trajectory.stream_totals = schedule.totals_to(end);
+        Ok(trajectory)
     }
 
     /// Apply what is due at `t` (events, ends of streams, a check, changes

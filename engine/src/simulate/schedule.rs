@@ -3,6 +3,7 @@
 
 use crate::model::Inputs;
 use crate::plan::{Action, Event, Plan, Stream};
+use crate::trajectory::StreamTotal;
 use std::sync::Arc;
 
 /// A running stream with its end time.
@@ -24,6 +25,9 @@ pub(super) struct Schedule {
     labels: Option<Arc<[String]>>,
     /// Changes to the model asked for and not yet made.
     pub(super) model_changes: Vec<Action>,
+    /// What each stream has given so far, up to `totals_until_h`.
+    totals: Vec<StreamTotal>,
+    totals_until_h: f64,
 }
 
 /// Most streams (infusions, drinks, losses, the habitual intake) running
@@ -51,6 +55,8 @@ impl Schedule {
             },
             labels: None,
             model_changes: Vec::new(),
+            totals: Vec::new(),
+            totals_until_h: 0.0,
         }
     }
 
@@ -71,8 +77,42 @@ impl Schedule {
         }
     }
 
+    /// Count what the running streams gave from the last count to `t`
+    /// (their rates are constant in between: every change passes here).
+    fn count_until(&mut self, t: f64) {
+        let from = self.totals_until_h;
+        if t <= from {
+            return;
+        }
+        for r in &self.running {
+            let hours = r.end_h.min(t) - from;
+            if hours <= 0.0 {
+                continue;
+            }
+            let i = match self.totals.iter().position(|s| s.label == r.stream.label) {
+                Some(i) => i,
+                None => {
+                    self.totals.push(StreamTotal {
+                        label: r.stream.label.clone(),
+                        ..Default::default()
+                    });
+                    self.totals.len() - 1
+                }
+            };
+            self.totals[i].add(&r.stream.rates, hours);
+        }
+        self.totals_until_h = t;
+    }
+
+    /// What each stream gave up to `t` (the end of the run).
+    pub(super) fn totals_to(&mut self, t: f64) -> Vec<StreamTotal> {
+        self.count_until(t);
+        self.totals.clone()
+    }
+
     /// Apply everything due at time `t`; returns whether a check is due.
     pub(super) fn advance_to(&mut self, t: f64) -> bool {
+        self.count_until(t);
         let before = self.running.len();
         self.running.retain(|r| r.end_h > t + EPS_H);
         if self.running.len() != before {

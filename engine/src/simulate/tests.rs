@@ -78,3 +78,56 @@ fn controller_stops_an_infusion_at_a_check() {
     assert!((2.5..6.0).contains(&rise), "{rise}");
     assert!(traj.max_balance_residual() < 1e-9, "{:?}", traj.balance);
 }
+
+#[test]
+fn stream_totals_count_what_each_stream_really_gave() {
+    // 3 % saline at 100 mL/h stopped by a rule at a half-hour check, and
+    // 500 mL of 0.9 % saline over 2 h from 1 h: the totals are rate x hours
+    // run, and the infused sodium matches the ledger of what was infused.
+    let lib = FluidLibrary::bundled();
+    let patient = Patient {
+        na: Some(120.0),
+        ..Patient::healthy("male", 50.0, 70.0)
+    };
+    let plan = Plan::new(patient)
+        .closed_system()
+        .run_for(12.0)
+        .check_every(0.5)
+        .start(
+            0.0,
+            Stream::give_at_rate(lib.get("saline_3").unwrap(), 0.1).unwrap(),
+        )
+        .start(
+            1.0,
+            Stream::give(lib.get("saline_0_9").unwrap(), 0.5, 2.0).unwrap(),
+        );
+    let traj = Simulation::new(plan)
+        .unwrap()
+        .run_with(&mut StopAtFour)
+        .unwrap();
+    let by = |label: &str| {
+        traj.stream_totals
+            .iter()
+            .find(|s| s.label == label)
+            .unwrap_or_else(|| panic!("{label} in {:?}", traj.stream_totals))
+    };
+    let normal = by("saline_0_9");
+    assert!((normal.water_in_l - 0.5).abs() < 1e-12, "{normal:?}");
+    // 0.9 % saline carries 154 mmol/L (fluid table).
+    assert!((normal.na_in_mmol - 77.0).abs() < 1e-9, "{normal:?}");
+    let hyper = by("saline_3");
+    // Stopped at a whole number of half-hour checks, at 0.1 L/h.
+    let hours = hyper.water_in_l / 0.1;
+    assert!(
+        hours > 0.4 && ((hours * 2.0).round() - hours * 2.0).abs() < 1e-9,
+        "{hours}"
+    );
+    assert!((hyper.na_in_mmol - 513.0 * hyper.water_in_l).abs() < 1e-9);
+    // The sum over streams is what the ledger counted as infused sodium.
+    let infused: f64 = traj.stream_totals.iter().map(|s| s.na_in_mmol).sum();
+    let ledger = traj.last().y[crate::body::S::InfusedNa as usize];
+    assert!(
+        (infused - ledger).abs() < 1e-6 * ledger,
+        "{infused} vs {ledger}"
+    );
+}

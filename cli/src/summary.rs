@@ -36,6 +36,22 @@ pub struct SodiumSummary {
     pub largest_rise_48h: AtTime,
 }
 
+/// The brain-cell volume index (brain-cell water over its normal volume)
+/// in brief: a model index, not a diagnosis.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct BrainSummary {
+    /// Lowest index.
+    pub min: f64,
+    /// When it was lowest, h.
+    pub min_time_h: f64,
+    /// Highest index.
+    pub max: f64,
+    /// When it was highest, h.
+    pub max_time_h: f64,
+    /// At the end.
+    pub end: f64,
+}
+
 /// A guideline rule crossed.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct FlagSummary {
@@ -200,6 +216,8 @@ pub struct Summary {
     pub start: crate::input::StartSummary,
     /// Serum sodium in brief.
     pub sodium: SodiumSummary,
+    /// Brain-cell volume index in brief.
+    pub brain_volume_index: BrainSummary,
     /// Guideline set.
     pub guideline: GuidelineSummary,
     /// Rules crossed.
@@ -319,6 +337,17 @@ impl Summary {
                 max = s;
             }
         }
+        let brain = |s: &&tidewater::Sample| s.obs.brain_volume_index;
+        let lowest = traj
+            .samples
+            .iter()
+            .min_by(|a, b| brain(a).total_cmp(&brain(b)))
+            .unwrap_or(first);
+        let highest = traj
+            .samples
+            .iter()
+            .max_by(|a, b| brain(a).total_cmp(&brain(b)))
+            .unwrap_or(first);
         let (r24, t24) = traj.largest_rise(24.0);
         let (r48, t48) = traj.largest_rise(48.0);
         Summary {
@@ -336,6 +365,13 @@ impl Summary {
                 end: at(last.obs.na_mmol_l, last.time_h),
                 largest_rise_24h: at(r24, t24),
                 largest_rise_48h: at(r48, t48),
+            },
+            brain_volume_index: BrainSummary {
+                min: round_sig(lowest.obs.brain_volume_index, DIGITS),
+                min_time_h: round_sig(lowest.time_h, DIGITS),
+                max: round_sig(highest.obs.brain_volume_index, DIGITS),
+                max_time_h: round_sig(highest.time_h, DIGITS),
+                end: round_sig(last.obs.brain_volume_index, DIGITS),
             },
             guideline: GuidelineSummary {
                 id: traj.limits.guideline.id.clone(),

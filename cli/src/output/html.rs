@@ -159,6 +159,18 @@ pub fn render(report: &Report) -> String {
         format!("window ending {} h", sig(na.largest_rise_48h.time_h, 4)),
         false,
     );
+    let b = &s.brain_volume_index;
+    glance(
+        &mut out,
+        "Brain-cell volume index",
+        format!("{}–{}", fixed(b.min, 3), fixed(b.max, 3)),
+        format!(
+            "lowest at {}, highest at {} (1 = normal volume; a model index, not a diagnosis)",
+            crate::format::hours_text(b.min_time_h),
+            crate::format::hours_text(b.max_time_h)
+        ),
+        false,
+    );
     glance(
         &mut out,
         "Guideline flags",

@@ -172,8 +172,69 @@ pub struct Line {
     pub points: Vec<(f64, f64)>,
 }
 
+/// The corner of a plot with the fewest data points under a legend box
+/// (`width` and `height` as shares of the plot), `preferred` first among
+/// equals, so that a legend sits in free space rather than on the data.
+/// A line between two points is counted by points along it.
+pub fn free_corner(
+    lines: &[&[(f64, f64)]],
+    x: &Range<f64>,
+    y: &Range<f64>,
+    (width, height): (f64, f64),
+    preferred: SeriesLabelPosition,
+) -> SeriesLabelPosition {
+    use SeriesLabelPosition::*;
+    let corners = [UpperRight, UpperLeft, LowerRight, LowerLeft];
+    let inside = |c: &SeriesLabelPosition, (px, py): (f64, f64)| {
+        let fx = (px - x.start) / (x.end - x.start);
+        let fy = (py - y.start) / (y.end - y.start);
+        let right = matches!(c, UpperRight | LowerRight);
+        let upper = matches!(c, UpperRight | UpperLeft);
+        let in_x = if right {
+            fx >= 1.0 - width
+        } else {
+            fx <= width
+        };
+        let in_y = if upper {
+            fy >= 1.0 - height
+        } else {
+            fy <= height
+        };
+        in_x && in_y
+    };
+    let count = |c: &SeriesLabelPosition| {
+        let mut n = 0usize;
+        for points in lines {
+            for w in points.windows(2) {
+                // Ten points along each segment: a long straight stretch
+                // crosses a corner without a sample inside it.
+                for k in 0..10 {
+                    let f = k as f64 / 10.0;
+                    let p = (
+                        w[0].0 + f * (w[1].0 - w[0].0),
+                        w[0].1 + f * (w[1].1 - w[0].1),
+                    );
+                    n += usize::from(inside(c, p));
+                }
+            }
+            if let Some(&last) = points.last() {
+                n += usize::from(inside(c, last));
+            }
+        }
+        n
+    };
+    let preferred_count = count(&preferred);
+    corners
+        .iter()
+        .map(|c| (count(c), c))
+        .filter(|(n, _)| *n < preferred_count)
+        .min_by_key(|(n, _)| *n)
+        .map_or(preferred, |(_, c)| c.clone())
+}
+
 /// One panel of line series over the run's time axis; `include_zero`
-/// keeps 0 on the y axis.
+/// keeps 0 on the y axis; the legend goes to `legend_at` unless another
+/// corner holds less of the data.
 pub fn panel(
     area: &Area<'_>,
     traj: &Trajectory,
@@ -202,6 +263,17 @@ pub fn panel(
     } else {
         y
     };
+    let shares = legend_shares(&lines);
+    let legend_at = free_corner(
+        &lines
+            .iter()
+            .map(|l| l.points.as_slice())
+            .collect::<Vec<_>>(),
+        &x_range(traj),
+        &y,
+        shares,
+        legend_at,
+    );
     let mut chart = time_axes(area, Size::Panel, caption, x_range(traj), y, y_desc)?;
     for l in lines {
         let (color, width) = (l.color, l.width);
@@ -216,6 +288,20 @@ pub fn panel(
     legend(&mut chart, legend_at)
 }
 
+/// The share of a panel's plot (width, height) a legend of these lines
+/// takes: about 7 px per character plus the key, 20 px per line, on a plot
+/// about 820 x 220 px.
+fn legend_shares(lines: &[Line]) -> (f64, f64) {
+    let longest = lines
+        .iter()
+        .map(|l| l.name.chars().count())
+        .max()
+        .unwrap_or(0);
+    let width = (40.0 + 7.0 * longest as f64) / 820.0;
+    let height = (12.0 + 20.0 * lines.len() as f64) / 220.0;
+    (width.min(0.6), height.min(0.6))
+}
+
 /// A chart of two panels, one above the other, under `title`.
 pub fn two_panels(
     title: &str,
@@ -228,4 +314,29 @@ pub fn two_panels(
         let areas = root.split_evenly((2, 1));
         draw(&areas[0], &areas[1])
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use SeriesLabelPosition::*;
+
+    #[test]
+    fn the_legend_goes_where_the_data_is_not() {
+        let (x, y) = (0.0..10.0, 0.0..10.0);
+        // A line falling from the upper left to the lower right leaves the
+        // upper right and lower left free: the preferred lower right is
+        // taken only when free.
+        let falling = [(0.0, 10.0), (10.0, 0.0)];
+        let c = free_corner(&[&falling], &x, &y, (0.3, 0.3), LowerRight);
+        assert!(matches!(c, UpperRight | LowerLeft), "{c:?}");
+        // A line along the top: the preferred lower corner stays.
+        let top = [(0.0, 9.5), (10.0, 9.5)];
+        let c = free_corner(&[&top], &x, &y, (0.3, 0.3), LowerRight);
+        assert!(matches!(c, LowerRight), "{c:?}");
+        // Rising to the upper right: the legend leaves that corner.
+        let rising = [(0.0, 0.0), (10.0, 10.0)];
+        let c = free_corner(&[&rising], &x, &y, (0.3, 0.3), UpperRight);
+        assert!(matches!(c, UpperLeft | LowerRight), "{c:?}");
+    }
 }

@@ -1,12 +1,14 @@
 //! SVG charts of a run (plotters, no fonts needed: the viewer renders the
 //! text), one module per chart: serum sodium with the guideline corridor
 //! and flags (`sodium.rs`), stacked compartment volumes (`volumes.rs`),
+//! the brain-cell volume index (`brain.rs`),
 //! urine flow and osmolality (`urine.rs`), cumulative intake and output
 //! (`balance.rs`). `frame.rs` holds what they share: the canvas with its
 //! caution line, the time axis, panels and legends. The charts of a sweep
 //! are in `output/sweep/charts.rs`.
 
 pub mod balance;
+pub mod brain;
 pub mod frame;
 pub mod sodium;
 pub mod urine;
@@ -50,6 +52,7 @@ impl Output<Report> for Charts {
 // Tidewater's palette.
 pub(crate) const INK: RGBColor = RGBColor(36, 41, 51);
 const GRID: RGBColor = RGBColor(222, 226, 230);
+const GRID_DARK: RGBColor = RGBColor(150, 156, 164);
 pub(crate) const SODIUM: RGBColor = RGBColor(22, 84, 128);
 const CEILING: RGBColor = RGBColor(189, 62, 48);
 pub(crate) const PERMITTED: RGBColor = RGBColor(126, 184, 166);
@@ -86,6 +89,11 @@ pub fn charts(input: &RunInput, summary: &Summary) -> Result<Vec<Chart>> {
             file_name: "volumes.svg",
             title: "Body water by compartment".into(),
             svg: volumes::chart(input)?,
+        },
+        Chart {
+            file_name: "brain.svg",
+            title: "Brain-cell volume index (a model index, not a diagnosis)".into(),
+            svg: brain::chart(input)?,
         },
         Chart {
             file_name: "urine.svg",

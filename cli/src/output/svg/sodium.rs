@@ -4,7 +4,9 @@
 //! dashed), a marker where each rule was first crossed, and one per goal
 //! judged.
 
-use super::frame::{canvas, err, legend, padded, picks, series, time_axes, x_range, Size};
+use super::frame::{
+    canvas, err, free_corner, legend, padded, picks, series, time_axes, x_range, Size,
+};
 use super::{CEILING, FLAG, FONT, FORMULA, GOAL, PERMITTED, SODIUM, WIDTH};
 use crate::input::RunInput;
 use crate::summary::Summary;
@@ -256,7 +258,24 @@ pub fn chart(input: &RunInput, summary: &Summary) -> Result<String> {
                 first = false;
             }
         }
-        legend(&mut chart, SeriesLabelPosition::LowerRight)
+        // The legend in the corner the sodium, formula and bound lines
+        // leave free (up to six entries of about 40 characters, on a plot
+        // about 820 x 330 px).
+        let bound_points: Vec<(f64, f64)> = picks_idx
+            .iter()
+            .filter(|&&j| bound[j].is_finite())
+            .map(|&j| (times[j], clamp(bound[j])))
+            .collect();
+        let formula_points: Vec<(f64, f64)> =
+            picks_idx.iter().map(|&j| (times[j], formula[j])).collect();
+        let corner = free_corner(
+            &[&na, &formula_points, &bound_points],
+            &x,
+            &y,
+            (0.42, 0.4),
+            SeriesLabelPosition::LowerRight,
+        );
+        legend(&mut chart, corner)
     })
 }
 

@@ -6,7 +6,7 @@
 
 use super::report::Report;
 use super::{Output, OutputFile};
-use crate::format::{fixed, sig};
+use crate::format::{fixed, hours_text, sig};
 use anyhow::Result;
 use std::fmt::Write as _;
 
@@ -142,21 +142,27 @@ pub fn render(report: &Report) -> String {
         &mut out,
         "Serum sodium at end",
         format!("{} mmol/L", fixed(na.end.mmol_l, 1)),
-        format!("at {} h", sig(na.end.time_h, 4)),
+        format!("at {}", hours_text(na.end.time_h)),
         false,
     );
     glance(
         &mut out,
         "Largest rise in 24 h",
         format!("{} mmol/L", fixed(na.largest_rise_24h.mmol_l, 1)),
-        format!("window ending {} h", sig(na.largest_rise_24h.time_h, 4)),
+        format!(
+            "window ending at {}",
+            hours_text(na.largest_rise_24h.time_h)
+        ),
         false,
     );
     glance(
         &mut out,
         "Largest rise in 48 h",
         format!("{} mmol/L", fixed(na.largest_rise_48h.mmol_l, 1)),
-        format!("window ending {} h", sig(na.largest_rise_48h.time_h, 4)),
+        format!(
+            "window ending at {}",
+            hours_text(na.largest_rise_48h.time_h)
+        ),
         false,
     );
     let b = &s.brain_volume_index;
@@ -165,9 +171,9 @@ pub fn render(report: &Report) -> String {
         "Brain-cell volume index",
         format!("{}–{}", fixed(b.min, 3), fixed(b.max, 3)),
         format!(
-            "lowest at {}, highest at {} (1 = normal volume; a model index, not a diagnosis)",
-            crate::format::hours_text(b.min_time_h),
-            crate::format::hours_text(b.max_time_h)
+            "lowest at {}, highest at {}; 1 = normal (model index)",
+            hours_text(b.min_time_h),
+            hours_text(b.max_time_h)
         ),
         false,
     );
@@ -385,7 +391,7 @@ fn goals_section(out: &mut String, s: &crate::summary::Summary) {
             _ => ("", "not judged (the run ended first)"),
         };
         let reached = match g.reached_h {
-            Some(t) if g.status == "missed" => format!("; reached at {} h", sig(t, 4)),
+            Some(t) if g.status == "missed" => format!("; reached at {}", hours_text(t)),
             None if g.status == "missed" => "; not reached in the run".to_string(),
             _ => String::new(),
         };

@@ -12,6 +12,7 @@ use crate::input::RunInput;
 use crate::summary::Summary;
 use anyhow::Result;
 use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, Pos, VPos};
 use tidewater::goals::GoalStatus;
 use tidewater::limits::{Direction, Severity};
 use tidewater::trajectory::interpolate;
@@ -32,7 +33,8 @@ fn value_at(times: &[f64], values: &[f64], t: f64) -> f64 {
 /// limits allow at each sample time, for a course that moves steadily in
 /// one direction from the start: `c(t) = min over rules of
 /// c(max(from, t − window)) + max_change`, over the rules that apply to
-/// the run (start disorder, onset). Infinite where no rule applies.
+/// the run (start disorder, onset). Infinite (+ for rises, − for falls)
+/// where no rule applies, everywhere when none does.
 pub fn corridor(traj: &Trajectory, direction: Direction) -> Vec<f64> {
     let times = traj.times();
     let na0 = traj.samples[0].obs.na_mmol_l;
@@ -42,6 +44,14 @@ pub fn corridor(traj: &Trajectory, direction: Direction) -> Vec<f64> {
         .into_iter()
         .filter(|r| r.direction == direction && r.severity == Severity::Limit)
         .collect();
+    let sign = match direction {
+        Direction::Rise => 1.0,
+        Direction::Fall => -1.0,
+    };
+    if rules.is_empty() {
+        // No bound on this side at any time.
+        return vec![sign * f64::INFINITY; times.len()];
+    }
     let mut c = vec![0.0; times.len()];
     for j in 0..times.len() {
         let t = times[j];
@@ -64,10 +74,6 @@ pub fn corridor(traj: &Trajectory, direction: Direction) -> Vec<f64> {
         }
         c[j] = best;
     }
-    let sign = match direction {
-        Direction::Rise => 1.0,
-        Direction::Fall => -1.0,
-    };
     c.iter().map(|x| na0 + sign * x).collect()
 }
 
@@ -75,14 +81,11 @@ pub fn corridor(traj: &Trajectory, direction: Direction) -> Vec<f64> {
 pub fn chart(input: &RunInput, summary: &Summary) -> Result<String> {
     let traj = &input.trajectory;
     let na: Vec<(f64, f64)> = series(traj, |s| s.obs.na_mmol_l);
-    let na0 = summary.sodium.start.mmol_l;
-    let rises = summary.sodium.max.mmol_l - na0 >= na0 - summary.sodium.min.mmol_l;
-    let direction = if rises {
-        Direction::Rise
-    } else {
-        Direction::Fall
-    };
-    let bound = corridor(traj, direction);
+    // Both corridors: the highest sodium the rise limits allow and the
+    // lowest the fall limits allow (infinite where no rule applies), so a
+    // course that turns the other way still shows the bound it meets.
+    let ceiling = corridor(traj, Direction::Rise);
+    let floor = corridor(traj, Direction::Fall);
     let times = traj.times();
     let (mut lo, mut hi) = (summary.sodium.min.mmol_l, summary.sodium.max.mmol_l);
     let formula: Vec<f64> = tidewater::bedside::formula_course(traj)
@@ -93,18 +96,22 @@ pub fn chart(input: &RunInput, summary: &Summary) -> Result<String> {
         lo = lo.min(*f);
         hi = hi.max(*f);
     }
-    let finite_bound: Vec<f64> = bound.iter().copied().filter(|b| b.is_finite()).collect();
+    // A bound within reach of the course widens the axis to show it.
     let reach = 25.0;
-    for b in &finite_bound {
-        if rises && *b <= hi + reach {
+    for b in ceiling.iter().filter(|b| b.is_finite()) {
+        if *b <= hi + reach {
             hi = hi.max(*b);
         }
-        if !rises && *b >= lo - reach {
+    }
+    for b in floor.iter().filter(|b| b.is_finite()) {
+        if *b >= lo - reach {
             lo = lo.min(*b);
         }
     }
     let y = padded(lo, hi, 0.08, 6.0);
     let x = x_range(traj);
+    let any_ceiling = ceiling.iter().any(|b| b.is_finite());
+    let any_floor = floor.iter().any(|b| b.is_finite());
 
     canvas((WIDTH, 460), |root| {
         let mut chart = time_axes(
@@ -116,17 +123,21 @@ pub fn chart(input: &RunInput, summary: &Summary) -> Result<String> {
             "Serum sodium (mmol/L)",
         )?;
 
-        // Permitted region (between the guideline bound and the far edge).
-        let edge = if rises { y.start } else { y.end };
+        // Permitted region: between the floor and the ceiling (the axis
+        // edge where a side has no rule).
         let clamp = |b: f64| b.clamp(y.start, y.end);
         let picks_idx = picks(times.len());
         let mut polygon: Vec<(f64, f64)> = picks_idx
             .iter()
-            .map(|&j| (times[j], clamp(bound[j])))
+            .map(|&j| (times[j], clamp(ceiling[j])))
             .collect();
-        polygon.push((times[times.len() - 1], edge));
-        polygon.push((times[0], edge));
-        if !finite_bound.is_empty() {
+        polygon.extend(picks_idx.iter().rev().map(|&j| (times[j], clamp(floor[j]))));
+        if any_ceiling || any_floor {
+            let sides = match (any_ceiling, any_floor) {
+                (true, true) => "rise and fall",
+                (true, false) => "rise",
+                _ => "fall",
+            };
             chart
                 .draw_series(std::iter::once(Polygon::new(
                     polygon,
@@ -134,13 +145,20 @@ pub fn chart(input: &RunInput, summary: &Summary) -> Result<String> {
                 )))
                 .map_err(err)?
                 .label(format!(
-                    "Within {} limits ({})",
-                    traj.limits.guideline.id,
-                    if rises { "rise" } else { "fall" }
+                    "Within {} limits ({sides})",
+                    traj.limits.guideline.id
                 ))
                 .legend(|(x, y)| {
                     Rectangle::new([(x, y - 6), (x + 22, y + 6)], PERMITTED.mix(0.35).filled())
                 });
+        }
+        for (bound, present, label) in [
+            (&ceiling, any_ceiling, "Highest sodium the limits allow"),
+            (&floor, any_floor, "Lowest sodium the limits allow"),
+        ] {
+            if !present {
+                continue;
+            }
             chart
                 .draw_series(LineSeries::new(
                     picks_idx
@@ -150,11 +168,7 @@ pub fn chart(input: &RunInput, summary: &Summary) -> Result<String> {
                     CEILING.stroke_width(2),
                 ))
                 .map_err(err)?
-                .label(if rises {
-                    "Highest sodium the limits allow"
-                } else {
-                    "Lowest sodium the limits allow"
-                })
+                .label(label)
                 .legend(|(x, y)| {
                     PathElement::new(vec![(x, y), (x + 22, y)], CEILING.stroke_width(2))
                 });
@@ -197,15 +211,24 @@ pub fn chart(input: &RunInput, summary: &Summary) -> Result<String> {
                     TriangleMarker::new((f.time_h, v), 9, FLAG.filled()).into_dyn(),
                     Text::new(
                         format!(
-                            "{} crossed at {} h",
+                            " {} crossed at {} ",
                             f.rule.label,
-                            crate::format::sig(f.time_h, 3)
+                            crate::format::hours_text(f.time_h)
                         ),
                         (
                             f.time_h,
                             y.end - (y.end - y.start) * (0.05 + 0.06 * k as f64),
                         ),
-                        (FONT, 12).into_font().color(&FLAG),
+                        // In the right third, the label ends at its line so
+                        // the chart's edge does not cut it.
+                        (FONT, 12).into_font().color(&FLAG).pos(Pos::new(
+                            if f.time_h > x.start + 0.66 * (x.end - x.start) {
+                                HPos::Right
+                            } else {
+                                HPos::Left
+                            },
+                            VPos::Top,
+                        )),
                     )
                     .into_dyn(),
                 ])
@@ -261,15 +284,18 @@ pub fn chart(input: &RunInput, summary: &Summary) -> Result<String> {
         // The legend in the corner the sodium, formula and bound lines
         // leave free (up to six entries of about 40 characters, on a plot
         // about 820 x 330 px).
-        let bound_points: Vec<(f64, f64)> = picks_idx
-            .iter()
-            .filter(|&&j| bound[j].is_finite())
-            .map(|&j| (times[j], clamp(bound[j])))
-            .collect();
+        let bound_points = |bound: &[f64]| -> Vec<(f64, f64)> {
+            picks_idx
+                .iter()
+                .filter(|&&j| bound[j].is_finite())
+                .map(|&j| (times[j], clamp(bound[j])))
+                .collect()
+        };
+        let (ceiling_points, floor_points) = (bound_points(&ceiling), bound_points(&floor));
         let formula_points: Vec<(f64, f64)> =
             picks_idx.iter().map(|&j| (times[j], formula[j])).collect();
         let corner = free_corner(
-            &[&na, &formula_points, &bound_points],
+            &[&na, &formula_points, &ceiling_points, &floor_points],
             &x,
             &y,
             (0.42, 0.4),
@@ -302,6 +328,18 @@ mod tests {
         assert!((at(12.0) - (na0 + 10.0)).abs() < 1e-9);
         assert!((at(24.0) - (na0 + 10.0)).abs() < 1e-9);
         assert!((at(48.0) - (na0 + 18.0)).abs() < 1e-9);
+    }
+
+    #[test]
+    fn a_side_without_rules_has_no_bound_at_all() {
+        // A hyponatremic start: the fall limit applies only to a chronic
+        // hypernatremic start, so the floor is absent everywhere (not a
+        // point at the start value).
+        let plan = tidewater::reference::benchmark_plan();
+        let traj = tidewater::Simulation::new(plan).unwrap().run().unwrap();
+        assert!(corridor(&traj, Direction::Fall)
+            .iter()
+            .all(|b| *b == f64::NEG_INFINITY));
     }
 
     #[test]

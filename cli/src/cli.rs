@@ -73,6 +73,13 @@ pub enum Command {
         after_help = format!("Examples:\n  tidewater fit scenarios/labs_settling.rhai --observed scenarios/observations/settling_labs.csv\n  tidewater fit SCRIPT --observed labs.csv --vary unknowns.yaml --out /tmp/fit\n\nThe script gives the patient, the cause and what was given so far (and, after\nthe last observation, the plan proposed). The observation file is described\nin scenarios/README.md (\"Observed labs\").\n\n{EXIT_CODES}")
     )]
     Fit(FitArgs),
+    /// Lay scenarios side by side: serum sodium, the brain-cell volume
+    /// index and body water on shared axes, and their headline figures in
+    /// one table (report.html, summary.json, SVG charts).
+    #[command(
+        after_help = format!("Examples:\n  tidewater compare scenarios/exercise_associated.rhai scenarios/severe_chronic_boluses.rhai\n  tidewater compare plan_a.rhai plan_b.rhai --out /tmp/a_vs_b\n\n{EXIT_CODES}")
+    )]
+    Compare(CompareArgs),
     /// List the fluid library with compositions (mmol/L; albumin in g/L).
     #[command(
         after_help = "Examples:\n  tidewater fluids\n  tidewater fluids --json\n  tidewater fluids --file my_fluids.yaml"
@@ -404,6 +411,21 @@ pub struct PlanArgs {
     /// Print the answer as one JSON object.
     #[arg(long)]
     pub json: bool,
+}
+
+/// Options of `compare`.
+#[derive(Args, Debug)]
+pub struct CompareArgs {
+    /// Scenario scripts (2 to 8), in the order their columns and colours
+    /// take.
+    #[arg(required = true, num_args = 2..)]
+    pub scripts: Vec<PathBuf>,
+    /// Output folder (replaced whole; default `compare`).
+    #[arg(long, default_value = "compare")]
+    pub out: PathBuf,
+    /// Print nothing but errors.
+    #[arg(long)]
+    pub quiet: bool,
 }
 
 /// Options of `fit`.

@@ -462,3 +462,38 @@ pub fn check_out_dir(path: &Path) -> Result<()> {
     }
     Ok(())
 }
+
+/// `tidewater compare`: run each script and write the side-by-side report.
+pub fn compare(args: crate::cli::CompareArgs) -> Result<()> {
+    use crate::output::compare::{Comparison, MAX_SCENARIOS};
+    if args.scripts.len() > MAX_SCENARIOS {
+        anyhow::bail!(
+            "compare takes at most {MAX_SCENARIOS} scenarios ({} given): beyond that the lines of a chart can no longer be told apart",
+            args.scripts.len()
+        );
+    }
+    let mut inputs = Vec::with_capacity(args.scripts.len());
+    for path in &args.scripts {
+        inputs.push(input::load_script(path)?);
+    }
+    let comparison = Comparison::new(inputs)?;
+    comparison.write(&args.out)?;
+    if !args.quiet {
+        eprintln!("Caution: {CAUTION}");
+        for h in comparison.headlines() {
+            eprintln!(
+                "{}: serum sodium {} -> {} mmol/L; largest rise {} mmol/L in 24 h; brain-cell volume index {}-{}; {} limit{} crossed",
+                terminal_safe(&h.scenario),
+                fixed(h.na_start_mmol_l, 1),
+                fixed(h.na_end_mmol_l, 1),
+                fixed(h.largest_rise_24h_mmol_l, 1),
+                fixed(h.brain_index_min, 3),
+                fixed(h.brain_index_max, 3),
+                h.limits_crossed,
+                if h.limits_crossed == 1 { "" } else { "s" }
+            );
+        }
+        eprintln!("wrote {}", args.out.join("report.html").display());
+    }
+    Ok(())
+}

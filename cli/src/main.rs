@@ -112,6 +112,7 @@ fn dispatch(task: Task, style: Style) -> Result<Outcome> {
         Task::Check(opts) => check::check_command(opts, style).map(Outcome::from),
         Task::Validate(args) => validate::validate_command(args, style).map(Outcome::from),
         Task::Fit(args) => fit_command::fit_command(args).map(|()| Outcome::Ok),
+        Task::Compare(args) => commands::compare(args).map(|()| Outcome::Ok),
         Task::Plan(args) => plan_command::plan_command(args, style).map(Outcome::from),
         Task::Dump { script } => commands::dump(&script).map(ok),
         Task::Completions { shell } => {

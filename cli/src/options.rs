@@ -95,6 +95,8 @@ pub enum Task {
     Validate(crate::validate::ValidateArgs),
     /// `fit`: the options as typed.
     Fit(crate::cli::FitArgs),
+    /// `compare`.
+    Compare(crate::cli::CompareArgs),
     /// `plan`: the options as typed (the planner checks them itself).
     Plan(crate::cli::PlanArgs),
     /// `dump`: the scenario script.
@@ -156,6 +158,7 @@ impl Task {
             Command::Validate(a) => Task::Validate(a),
             Command::Plan(a) => Task::Plan(a),
             Command::Fit(a) => Task::Fit(a),
+            Command::Compare(a) => Task::Compare(a),
             Command::Dump(a) => Task::Dump { script: a.script },
             Command::Completions(a) => Task::Completions { shell: a.shell },
         })

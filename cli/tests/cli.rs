@@ -312,6 +312,78 @@ fn render_reports_names_folders_after_scripts_and_adds_the_demo_only_when_asked(
     assert_eq!(dirs(), ["acute_120", "demo"]);
 }
 
+#[test]
+fn compare_lays_scenarios_side_by_side_and_refuses_bad_input_whole() {
+    let root = tempfile::tempdir().unwrap();
+    let write = |name: &str, na: u32, ml: u32| {
+        let path = root.path().join(name);
+        std::fs::write(
+            &path,
+            format!("patient(#{{ sex: \"female\", age_years: 60, weight_kg: 60, na: {na}, cause: \"SIADH\" }});\nrun_for(hours(6));\nat(hours(0), infuse(\"saline_3\", ml({ml}), minutes(20)));\n"),
+        )
+        .unwrap();
+        path.to_str().unwrap().to_string()
+    };
+    let (a, b) = (
+        write("plan_a.rhai", 120, 100),
+        write("plan_b.rhai", 120, 300),
+    );
+    let out_dir = root.path().join("cmp");
+    let out = tidewater(&["compare", &a, &b, "--out", out_dir.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    for f in [
+        "report.html",
+        "summary.json",
+        "sodium.svg",
+        "brain.svg",
+        "volumes.svg",
+    ] {
+        assert!(out_dir.join(f).is_file(), "{f}");
+    }
+    let summary: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out_dir.join("summary.json")).unwrap())
+            .unwrap();
+    let s = summary["scenarios"].as_array().unwrap();
+    assert_eq!(s.len(), 2);
+    // 3 % saline carries 513 mmol/L (fluid table): 100 and 300 mL.
+    assert!(
+        (s[0]["na_given_mmol"].as_f64().unwrap() - 51.3).abs() < 1e-6,
+        "{}",
+        s[0]
+    );
+    assert!(
+        (s[1]["na_given_mmol"].as_f64().unwrap() - 153.9).abs() < 1e-6,
+        "{}",
+        s[1]
+    );
+    // More hypertonic saline raises sodium more.
+    assert!(s[1]["na_max_mmol_l"].as_f64() > s[0]["na_max_mmol_l"].as_f64());
+    let html = std::fs::read_to_string(out_dir.join("report.html")).unwrap();
+    assert!(
+        html.contains("not a medical device") && html.contains("plan-a") && html.contains("plan-b")
+    );
+    // One script is no comparison; a broken one leaves nothing behind.
+    let out = tidewater(&["compare", &a]);
+    assert_eq!(out.status.code(), Some(2));
+    let broken = root.path().join("broken.rhai");
+    std::fs::write(&broken, "patient(#{ sex: \"female\" });\n").unwrap();
+    let none = root.path().join("none");
+    let out = tidewater(&[
+        "compare",
+        &a,
+        broken.to_str().unwrap(),
+        "--out",
+        none.to_str().unwrap(),
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        text(&out.stderr).contains("broken.rhai"),
+        "{}",
+        text(&out.stderr)
+    );
+    assert!(!none.exists());
+}
+
 fn patient_json(args: &[&str]) -> serde_json::Value {
     let mut all = vec!["patient", "--json"];
     all.extend_from_slice(args);

@@ -83,7 +83,7 @@ fn glance(out: &mut String, label: &str, value: String, note: String, alert: boo
 }
 
 /// Give an SVG a viewBox so it scales with the page.
-fn scalable(svg: &str) -> String {
+pub(crate) fn scalable(svg: &str) -> String {
     let attr = |name: &str| -> Option<String> {
         let key = format!("{name}=\"");
         let start = svg.find(&key)? + key.len();

@@ -17,6 +17,7 @@
 //! (so that it resumes), and the merged file of `merge`, both written by
 //! the engine's sweep machinery.
 
+pub mod compare;
 pub mod csv;
 pub mod fit;
 pub mod html;

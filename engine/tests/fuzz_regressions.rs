@@ -87,18 +87,14 @@ fn sweep_spec_band_every_tiny() {
     });
 }
 
-// Issue 17: YAML nested 100,000 deep took more than 30 s. Still so (no
-// answer within 60 s in a debug build, checked 2026-12-03): serde_yaml
-// walks the whole nest before the loader sees it, so the fix is a bound on
-// depth and size read before parsing, the issue's "bounds on every
-// resource" item, which is larger than a change inside one loader.
-// Ignored until that lands; run with `-- --ignored` to see them fail.
+// Issue 17: YAML nested 100,000 deep took more than 30 s (serde_yaml's
+// time grows with the square of the nesting). Now refused before the parser
+// by the nesting bound of `tidewater::yaml` (64 levels).
 fn nested(depth: usize) -> String {
     format!("{}{}", "[".repeat(depth), "]".repeat(depth))
 }
 
 #[test]
-#[ignore = "still no answer within the bound (issue 17: YAML depth and size bounds, not yet built)"]
 fn fluids_yaml_nested_100k_deep() {
     let text = format!("fluids: {}\n", nested(100_000));
     answers("fluids nested 100k deep", move || {
@@ -109,7 +105,6 @@ fn fluids_yaml_nested_100k_deep() {
 }
 
 #[test]
-#[ignore = "still no answer within the bound (issue 17: YAML depth and size bounds, not yet built)"]
 fn patient_yaml_nested_100k_deep() {
     let text = format!("sex: {}\n", nested(100_000));
     answers("patient nested 100k deep", move || {
@@ -120,7 +115,6 @@ fn patient_yaml_nested_100k_deep() {
 }
 
 #[test]
-#[ignore = "still no answer within the bound (issue 17: YAML depth and size bounds, not yet built)"]
 fn sweep_spec_nested_100k_deep() {
     let text = format!("parameters: {}\n", nested(100_000));
     answers("sweep spec nested 100k deep", move || {
@@ -130,10 +124,10 @@ fn sweep_spec_nested_100k_deep() {
     });
 }
 
-// Issue 17: a fluids file of 400,000 fluids took more than 30 s. Still so
-// (no answer within 60 s in a debug build); ignored for the same reason.
+// Issue 17: a fluids file of 400,000 fluids took more than 30 s (the
+// duplicate-id check was quadratic). Now refused by the count bound
+// (10,000 fluids per file) after a linear parse.
 #[test]
-#[ignore = "still no answer within the bound (issue 17: YAML depth and size bounds, not yet built)"]
 fn fluids_yaml_400k_fluids() {
     let mut text = String::from("fluids:\n");
     for i in 0..400_000 {
@@ -142,8 +136,10 @@ fn fluids_yaml_400k_fluids() {
         ));
     }
     answers("400k fluids", move || {
-        FluidLibrary::from_yaml(&text, "f.yaml")
-            .map(|_| ())
-            .map_err(|e| e.to_string())
+        let e = FluidLibrary::from_yaml(&text, "f.yaml")
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("at most 10000"), "{e}");
+        Err(e)
     });
 }

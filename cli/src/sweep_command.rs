@@ -31,8 +31,9 @@ fn load_spec(spec_path: &Path) -> Result<(SweepSpec, PathBuf, Scenario)> {
     Ok((spec, script, scenario))
 }
 
-/// Run `tidewater sweep`.
-pub fn sweep_command(args: SweepOptions, style: Style) -> Result<()> {
+/// Run `tidewater sweep`. Returns `false` when the run finished but every
+/// member failed (exit 1: no result; the result file stays, as data).
+pub fn sweep_command(args: SweepOptions, style: Style) -> Result<bool> {
     // The scenario is loaded once here to report script errors before any
     // work starts.
     let (spec, script, scenario) = load_spec(&args.spec)?;
@@ -44,7 +45,7 @@ pub fn sweep_command(args: SweepOptions, style: Style) -> Result<()> {
         for i in (0..spec.member_count()).filter(|i| shard.contains(*i)) {
             writeln!(out, "{}", sweep::design_cells(&spec.member(i)).join(","))?;
         }
-        return Ok(());
+        return Ok(true);
     }
     let out = args.out_file(shard);
     if let Some(dir) = out.parent() {
@@ -79,10 +80,50 @@ pub fn sweep_command(args: SweepOptions, style: Style) -> Result<()> {
         "sweep: ran {ran} members in {secs:.1} s ({:.0} members/s)",
         ran as f64 / secs.max(1e-9)
     );
+    let outcomes = sweep::outcomes(&out, &spec)?;
+    report_failures(&outcomes, &out);
+    if outcomes.all_failed() {
+        // A summary of no result would hold only empty bands and NaN
+        // correlations: none is written.
+        return Ok(false);
+    }
     if args.summary && shard.count == 1 {
         write_summary(&spec, &out, &scenario.plan().limits)?;
     }
-    Ok(())
+    Ok(true)
+}
+
+/// Tell on stderr how many members of the result file `out` failed and
+/// why the first did.
+fn report_failures(outcomes: &sweep::Outcomes, out: &Path) {
+    let Some(first) = &outcomes.first_failure else {
+        return;
+    };
+    let values: Vec<String> = first
+        .values
+        .iter()
+        .map(|(name, value)| format!("{name} = {value}"))
+        .collect();
+    let why = format!(
+        "the first, member {} ({}), failed: {}",
+        first.index,
+        values.join(", "),
+        first.error
+    );
+    if outcomes.all_failed() {
+        eprintln!(
+            "sweep: every member failed ({} of {}); {why}\n\
+             sweep: no summary written; {} is kept (it is data: each row holds its member's error)",
+            outcomes.failed,
+            outcomes.members,
+            out.display()
+        );
+    } else {
+        eprintln!(
+            "sweep: {} of {} members failed; {why}",
+            outcomes.failed, outcomes.members
+        );
+    }
 }
 
 /// An error about the result file, as the engine words it.

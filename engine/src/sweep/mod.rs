@@ -45,7 +45,8 @@
 //!   [`PlanRunner`] (a bare plan), [`apply_overrides`], [`run_sweep`] with
 //!   its [`Progress`] and the writer that keeps rows in member order.
 //! * `rows.rs`: [`design_header`], [`design_cells`], [`result_header`],
-//!   [`result_row`], reading rows back, [`completed_members`].
+//!   [`result_row`], reading rows back, [`completed_members`], [`outcomes`]
+//!   (how many members failed, and the first failure).
 //! * `fingerprint.rs`: [`fingerprint`], [`fingerprint_path`],
 //!   [`claim_output`].
 //! * `merge.rs`: [`merge`].
@@ -70,7 +71,10 @@ pub use error::{DistributionProblem, ResultProblem, SpecProblem, SweepError};
 pub use fingerprint::{claim_output, fingerprint, fingerprint_path};
 pub use merge::merge;
 pub use random::{normal_cdf, normal_quantile, SplitMix64};
-pub use rows::{completed_members, design_cells, design_header, result_header, result_row};
+pub use rows::{
+    completed_members, design_cells, design_header, outcomes, result_header, result_row,
+    FailedMember, Outcomes,
+};
 pub use runner::{
     apply_overrides, run_sweep, set_patient_field, MemberRunner, PlanRunner, Progress,
     ScenarioRunner,

@@ -30,15 +30,18 @@ pub enum SweepError {
         message: String,
     },
     /// A field of the spec with a value that cannot be used.
-    #[error("{file}: {problem}")]
+    #[error("{file}{}: {problem}", location.map(|(l, c)| format!(":{l}:{c}")).unwrap_or_default())]
     Spec {
         /// Spec file.
         file: String,
+        /// Line and column (1-based) of the field, where it is written in
+        /// the spec (a missing field has none).
+        location: Option<(usize, usize)>,
         /// The field, as a path into the spec (`parameters[2].values`,
         /// `outputs.na_at_h[0]`, `rtol`).
         field: String,
-        /// What is wrong with it.
-        problem: SpecProblem,
+        /// What is wrong with it (boxed: it keeps the error small).
+        problem: Box<SpecProblem>,
     },
     /// A result file, shard or fingerprint that does not fit this sweep or
     /// cannot be read as one.
@@ -111,6 +114,15 @@ pub enum SpecProblem {
         /// The name given.
         name: String,
         /// The closest engine parameter, if one is close.
+        suggestion: Option<String>,
+    },
+    /// A `patient.<field>` whose field is not a numeric patient field
+    /// ([`crate::patient::numeric_patient_fields`]).
+    #[error("parameter {name}: not a numeric patient field{}; the fields are {}", suggestion.as_ref().map(|s| format!(" (did you mean \"patient.{s}\"?)")).unwrap_or_default(), crate::patient::numeric_patient_fields().collect::<Vec<_>>().join(", "))]
+    UnknownPatientField {
+        /// The name given.
+        name: String,
+        /// The closest patient field, if one is close.
         suggestion: Option<String>,
     },
     /// A grid over a distribution.
@@ -265,8 +277,9 @@ impl SweepError {
     pub(super) fn spec(file: &str, field: impl Into<String>, problem: SpecProblem) -> Self {
         SweepError::Spec {
             file: file.to_string(),
+            location: None,
             field: field.into(),
-            problem,
+            problem: Box::new(problem),
         }
     }
 
@@ -316,7 +329,12 @@ impl From<SweepError> for InputError {
                 location,
                 message,
             } => (file, location, message),
-            SweepError::Spec { file, problem, .. } => (file, None, problem.to_string()),
+            SweepError::Spec {
+                file,
+                location,
+                problem,
+                ..
+            } => (file, location, problem.to_string()),
             SweepError::Results { file, problem } => (file, None, problem.to_string()),
             SweepError::Io { file, error } => (file, None, error.to_string()),
             SweepError::Runner { file, message } => (file, None, message),

@@ -49,6 +49,8 @@
 //!   (how many members failed, and the first failure).
 //! * `fingerprint.rs`: [`fingerprint`], [`fingerprint_path`],
 //!   [`claim_output`].
+//! * `locate.rs`: the line and column of a spec field in the YAML text,
+//!   for the errors of the spec's checks.
 //! * `merge.rs`: [`merge`].
 //! * `stats.rs`: [`Histogram`], [`Moments`]; `summary.rs`: [`Summary`].
 //! * `error.rs`: [`SweepError`] with [`SpecProblem`],
@@ -58,6 +60,7 @@
 mod design;
 mod error;
 mod fingerprint;
+mod locate;
 mod merge;
 mod random;
 mod rows;

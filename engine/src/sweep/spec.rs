@@ -237,7 +237,15 @@ impl SweepSpec {
             location: e.location().map(|l| (l.line(), l.column())),
             message: e.to_string(),
         })?;
-        spec.check(file)?;
+        spec.check(file).map_err(|mut e| {
+            if let SweepError::Spec {
+                location, field, ..
+            } = &mut e
+            {
+                *location = super::locate::field_position(text, field);
+            }
+            e
+        })?;
         Ok(spec)
     }
 
@@ -307,6 +315,20 @@ impl SweepSpec {
                         suggestion,
                     },
                 );
+            }
+            // Checked here, before any member runs, against the one list
+            // the members' overrides are applied from.
+            if let Some(field) = p.name.strip_prefix("patient.") {
+                let known = crate::patient::numeric_patient_fields();
+                if !crate::patient::numeric_patient_fields().any(|f| f == field) {
+                    return fail(
+                        at(".name"),
+                        SpecProblem::UnknownPatientField {
+                            name: name(),
+                            suggestion: crate::suggest::closest(field, known),
+                        },
+                    );
+                }
             }
         }
         match self.design {
@@ -410,37 +432,37 @@ pub(super) mod tests {
             (
                 format!("{head}parameters:\n{ok}  - name: natriuresis_gain\n    values: []\n"),
                 "parameters[1].values",
-                "x.yaml: parameter natriuresis_gain: values must be finite and not empty",
+                "x.yaml:8:5: parameter natriuresis_gain: values must be finite and not empty",
             ),
             (
                 format!("{head}parameters:\n{ok}  - name: natriuresis_gain\n    range: [5, 20]\n  - name: kf_ml_min_mmhg\n    distribution: {{ kind: normal, mean: 90, sd: 0 }}\n"),
                 "parameters[2].distribution",
-                "x.yaml: parameter kf_ml_min_mmhg: normal needs sd > 0",
+                "x.yaml:10:5: parameter kf_ml_min_mmhg: normal needs sd > 0",
             ),
             (
                 format!("{head}parameters:\n{ok}  - name: natriuresis_gain\n    range: [5, 20]\n{ok}"),
                 "parameters[2].name",
-                "x.yaml: parameter gfr_ml_min is listed twice (also as parameters[0])",
+                "x.yaml:9:5: parameter gfr_ml_min is listed twice (also as parameters[0])",
             ),
             (
                 format!("{head}outputs:\n  band_every_h: .inf\nparameters:\n{ok}"),
                 "outputs.band_every_h",
-                "x.yaml: outputs.band_every_h: inf h; give 0 (no bands) or an interval from 1 min (0.0167 h) to 1440 h",
+                "x.yaml:5:3: outputs.band_every_h: inf h; give 0 (no bands) or an interval from 1 min (0.0167 h) to 1440 h",
             ),
             (
                 format!("{head}outputs:\n  band_every_h: 1e-300\nparameters:\n{ok}"),
                 "outputs.band_every_h",
-                "x.yaml: outputs.band_every_h: 1e-300 h; give 0 (no bands) or an interval from 1 min (0.0167 h) to 1440 h",
+                "x.yaml:5:3: outputs.band_every_h: 1e-300 h; give 0 (no bands) or an interval from 1 min (0.0167 h) to 1440 h",
             ),
             (
                 format!("{head}outputs:\n  na_at_h: [6, 1e300]\nparameters:\n{ok}"),
                 "outputs.na_at_h[1]",
-                "x.yaml: outputs: 1e300 h is beyond the longest run (60 days, 1440 h)",
+                "x.yaml:5:3: outputs: 1e300 h is beyond the longest run (60 days, 1440 h)",
             ),
             (
                 format!("{head}outputs:\n  na_at_h: [6, -1]\nparameters:\n{ok}"),
                 "outputs.na_at_h[1]",
-                "x.yaml: outputs: times must be >= 0",
+                "x.yaml:5:3: outputs: times must be >= 0",
             ),
             (
                 format!("scenario: b\ndesign: grid\nparameters:\n{ok}"),
@@ -454,5 +476,27 @@ pub(super) mod tests {
             assert_eq!(err.file(), "x.yaml");
             assert_eq!(err.to_string(), message);
         }
+    }
+
+    #[test]
+    fn a_patient_field_is_checked_before_any_member_runs() {
+        // The misspelt field is refused by the spec check, with its line,
+        // a suggestion and the list the members' overrides use.
+        let text = "scenario: b\ndesign: grid\nparameters:\n  - name: gfr_ml_min\n    values: [90]\n  - name: patient.water_fracction\n    values: [0.5]\n";
+        let err = SweepSpec::from_yaml(text, "m.yaml").unwrap_err();
+        assert_eq!(err.field(), Some("parameters[1].name"));
+        let shown = err.to_string();
+        assert!(
+            shown.starts_with("m.yaml:6:5: parameter patient.water_fracction: not a numeric patient field (did you mean \"patient.water_fraction\"?)"),
+            "{shown}"
+        );
+        for field in crate::patient::numeric_patient_fields() {
+            assert!(shown.contains(field), "{field} listed: {shown}");
+            let good = text.replace("water_fracction", field);
+            assert!(SweepSpec::from_yaml(&good, "m.yaml").is_ok(), "{field}");
+        }
+        // A text field cannot be varied.
+        let sex = text.replace("water_fracction", "sex");
+        assert!(SweepSpec::from_yaml(&sex, "m.yaml").is_err());
     }
 }

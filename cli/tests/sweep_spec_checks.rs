@@ -1,0 +1,52 @@
+//! A spec that cannot run is refused before any member runs: exit 2, the
+//! spec file with the line and the field in the message, and no result
+//! file written.
+
+use std::path::{Path, PathBuf};
+use std::process::Output;
+
+/// A fresh folder named for `what` holding a spec over the bundled
+/// scenario `nausea_settles.rhai`: `scenario: <path>` followed by `rest`.
+fn spec_in_fresh_dir(what: &str, rest: &str) -> (PathBuf, PathBuf) {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("..");
+    let script = root
+        .join("scenarios/nausea_settles.rhai")
+        .canonicalize()
+        .unwrap();
+    let dir = std::env::temp_dir().join(format!("tidewater-{what}-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    let spec = dir.join("spec.yaml");
+    std::fs::write(&spec, format!("scenario: {}\n{rest}", script.display())).unwrap();
+    (dir, spec)
+}
+
+/// Run the spec into `r.csv` beside it, refused: exit 2, nothing written.
+/// Returns stderr.
+fn refused(dir: &Path, spec: &Path) -> String {
+    let out = dir.join("r.csv");
+    let run: Output = std::process::Command::new(env!("CARGO_BIN_EXE_tidewater"))
+        .args(["sweep", spec.to_str().unwrap(), "--threads", "1", "--out"])
+        .arg(&out)
+        .output()
+        .unwrap();
+    let stderr = String::from_utf8_lossy(&run.stderr).into_owned();
+    assert_eq!(run.status.code(), Some(2), "{stderr}");
+    assert!(!out.exists(), "no result file: {stderr}");
+    stderr
+}
+
+#[test]
+fn a_misspelt_patient_field_is_refused_before_any_member_runs() {
+    let (dir, spec) = spec_in_fresh_dir(
+        "sweep-misspelt",
+        "design: grid\nparameters:\n  - name: patient.water_fracction\n    values: [0.5]\noutputs:\n  na_at_h: [6]\n",
+    );
+    let stderr = refused(&dir, &spec);
+    assert!(
+        stderr.contains(&format!("{}:4:5: parameter patient.water_fracction: not a numeric patient field (did you mean \"patient.water_fraction\"?)", spec.display())),
+        "{stderr}"
+    );
+    assert!(!stderr.contains("members ("), "no member ran: {stderr}");
+    std::fs::remove_dir_all(&dir).unwrap();
+}

@@ -50,3 +50,20 @@ fn a_misspelt_patient_field_is_refused_before_any_member_runs() {
     assert!(!stderr.contains("members ("), "no member ran: {stderr}");
     std::fs::remove_dir_all(&dir).unwrap();
 }
+
+#[test]
+fn a_member_count_beyond_the_maximum_is_refused_at_once() {
+    let (dir, spec) = spec_in_fresh_dir(
+        "sweep-huge",
+        "design: latin_hypercube\nmembers: 4294967296\nparameters:\n  - name: patient.water_fraction\n    range: [0.4, 0.5]\noutputs:\n  na_at_h: [6]\n",
+    );
+    let stderr = refused(&dir, &spec);
+    assert!(
+        stderr.contains(&format!(
+            "{}:3:1: members: 4294967296 is more than the most one sweep runs (10000000)",
+            spec.display()
+        )),
+        "{stderr}"
+    );
+    std::fs::remove_dir_all(&dir).unwrap();
+}

@@ -134,6 +134,18 @@ pub enum SpecProblem {
     /// A random design without a member count.
     #[error("members: give the number of members (> 0)")]
     NoMembers,
+    /// More members than a sweep may have ([`super::MAX_MEMBERS`]).
+    #[error("members: {members} is more than the most one sweep runs ({}); split a larger study into shards or several specs", super::MAX_MEMBERS)]
+    TooManyMembers {
+        /// The count given.
+        members: usize,
+    },
+    /// A grid with more members than a sweep may have.
+    #[error("design grid: {members} members (the product of the lists' lengths and levels) is more than the most one sweep runs ({}); use fewer levels or values", super::MAX_MEMBERS)]
+    TooLargeGrid {
+        /// The grid's size, as text (it may not fit a number).
+        members: String,
+    },
     /// A solver tolerance outside the admissible range.
     #[error("rtol: {rtol} is outside 1e-10..=1e-2")]
     Rtol {

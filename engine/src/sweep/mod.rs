@@ -82,6 +82,6 @@ pub use runner::{
     apply_overrides, run_sweep, set_patient_field, MemberRunner, PlanRunner, Progress,
     ScenarioRunner,
 };
-pub use spec::{Design, Distribution, SweepOutputs, SweepParameter, SweepSpec};
+pub use spec::{Design, Distribution, SweepOutputs, SweepParameter, SweepSpec, MAX_MEMBERS};
 pub use stats::{Histogram, Moments};
 pub use summary::Summary;

@@ -9,6 +9,16 @@ use serde::{Deserialize, Serialize};
 /// The longest run a plan allows (60 days), h.
 const LONGEST_RUN_H: f64 = 24.0 * 60.0;
 
+/// The most members one sweep (or one run of a shard's spec) may have.
+/// At the 1,300-1,900 members/s measured for the bundled bolus sweep on
+/// the two-core development machine (release build; DEVELOPERS.md,
+/// "Sweeps") ten million members take 1.5-2 h, and the list of members
+/// still to run stays under 100 MB;
+/// a larger study belongs in shards (`--shard K/N`) of several specs with
+/// their own seeds, joined with `tidewater merge`. Without a bound a
+/// mistyped count (4294967296) asks for gigabytes before the first member.
+pub const MAX_MEMBERS: usize = 10_000_000;
+
 /// How one parameter varies across members.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(tag = "kind", rename_all = "snake_case", deny_unknown_fields)]
@@ -349,9 +359,33 @@ impl SweepSpec {
                 }
             }
             Design::Random | Design::LatinHypercube => {
-                if self.members.unwrap_or(0) == 0 {
+                let members = self.members.unwrap_or(0);
+                if members == 0 {
                     return fail("members".into(), SpecProblem::NoMembers);
                 }
+                if members > MAX_MEMBERS {
+                    return fail("members".into(), SpecProblem::TooManyMembers { members });
+                }
+            }
+        }
+        if self.design == Design::Grid {
+            // The grid's size, counted without overflow.
+            let levels = self.levels.unwrap_or(2);
+            let count = self.parameters.iter().try_fold(1usize, |n, p| {
+                n.checked_mul(p.values.as_ref().map_or(levels, |v| v.len()))
+            });
+            if count.is_none_or(|n| n > MAX_MEMBERS) {
+                let field = if self.parameters.iter().any(|p| p.range.is_some()) {
+                    "levels"
+                } else {
+                    "parameters"
+                };
+                return fail(
+                    field.into(),
+                    SpecProblem::TooLargeGrid {
+                        members: count.map_or_else(|| "more than 2^64".into(), |n| n.to_string()),
+                    },
+                );
             }
         }
         if let Some(rtol) = self.rtol {
@@ -498,5 +532,46 @@ pub(super) mod tests {
         // A text field cannot be varied.
         let sex = text.replace("water_fracction", "sex");
         assert!(SweepSpec::from_yaml(&sex, "m.yaml").is_err());
+    }
+
+    #[test]
+    fn member_counts_have_a_documented_maximum() {
+        let with = |members: &str| {
+            format!("scenario: b\ndesign: latin_hypercube\nmembers: {members}\nparameters:\n  - name: gfr_ml_min\n    range: [60, 120]\n")
+        };
+        assert!(SweepSpec::from_yaml(&with(&MAX_MEMBERS.to_string()), "h.yaml").is_ok());
+        for too_many in ["4294967296", "10000001"] {
+            let err = SweepSpec::from_yaml(&with(too_many), "h.yaml").unwrap_err();
+            assert_eq!(err.field(), Some("members"));
+            assert_eq!(
+                err.to_string(),
+                format!("h.yaml:3:1: members: {too_many} is more than the most one sweep runs (10000000); split a larger study into shards or several specs")
+            );
+        }
+        // Not a whole number of members: refused by the parser, with the
+        // line, before anything is drawn.
+        for bad in ["1e12", "2.5", "-3", "many"] {
+            let shown = SweepSpec::from_yaml(&with(bad), "h.yaml")
+                .unwrap_err()
+                .to_string();
+            assert!(
+                shown.starts_with("h.yaml:3:10: members: invalid type"),
+                "{bad}: {shown}"
+            );
+        }
+        // A grid counts its members without overflow.
+        let grid = |levels: &str| {
+            format!("scenario: b\ndesign: grid\nlevels: {levels}\nparameters:\n  - name: gfr_ml_min\n    range: [60, 120]\n  - name: natriuresis_gain\n    range: [8, 18]\n  - name: patient.na\n    range: [115, 125]\n")
+        };
+        assert!(SweepSpec::from_yaml(&grid("200"), "g.yaml").is_ok());
+        let err = SweepSpec::from_yaml(&grid("4294967296"), "g.yaml").unwrap_err();
+        assert_eq!(err.field(), Some("levels"));
+        assert!(
+            err.to_string()
+                .starts_with("g.yaml:3:1: design grid: more than 2^64 members"),
+            "{err}"
+        );
+        let err = SweepSpec::from_yaml(&grid("216"), "g.yaml").unwrap_err();
+        assert!(err.to_string().contains("10077696 members"), "{err}");
     }
 }

@@ -54,6 +54,8 @@ pub fn sweep_command(args: SweepOptions, style: Style) -> Result<bool> {
                 .with_context(|| format!("cannot create {}", dir.display()))?;
         }
     }
+    // One writer at a time, held until this function returns.
+    let _lock = lock_output(&out)?;
     // Rows are resumed or merged only with rows of this very spec, script
     // and engine.
     sweep::claim_output(&out, &sweep::fingerprint(&spec, scenario.source()))?;
@@ -91,6 +93,35 @@ pub fn sweep_command(args: SweepOptions, style: Style) -> Result<bool> {
         write_summary(&spec, &out, &scenario.plan().limits)?;
     }
     Ok(true)
+}
+
+/// Take the exclusive lock of the result file `out` for the whole run: an
+/// OS lock (flock on unix) on `<out>.lock` beside it, so that two sweeps
+/// never append to one file. The kernel drops the lock when the process
+/// ends however it ends, so a killed run leaves no stale lock. The lock
+/// file itself stays: removing it would let a later run lock a new file
+/// while a waiting one holds the old.
+fn lock_output(out: &Path) -> Result<std::fs::File> {
+    let mut name = out.as_os_str().to_owned();
+    name.push(".lock");
+    let path = PathBuf::from(name);
+    let file = std::fs::OpenOptions::new()
+        .create(true)
+        .truncate(false)
+        .write(true)
+        .open(&path)
+        .with_context(|| format!("cannot open the lock file {}", path.display()))?;
+    match fs4::FileExt::try_lock(&file) {
+        Ok(()) => Ok(file),
+        Err(fs4::TryLockError::WouldBlock) => Err(anyhow::anyhow!(
+            "another tidewater sweep is writing {} (it holds {}): wait for it to end, or choose another --out",
+            out.display(),
+            path.display()
+        )),
+        Err(fs4::TryLockError::Error(e)) => {
+            Err(anyhow::anyhow!("cannot lock {}: {e}", path.display()))
+        }
+    }
 }
 
 /// Tell on stderr how many members of the result file `out` failed and

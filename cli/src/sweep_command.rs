@@ -252,7 +252,7 @@ pub fn merge_command(args: MergeOptions) -> Result<()> {
 /// beside it, and print the summary as tables on stdout.
 fn write_summary(spec: &SweepSpec, results: &Path, limits: &LimitChoice) -> Result<()> {
     let report = SweepReport::read(spec, results, limits)?;
-    let path = report.write(results.parent().unwrap_or(Path::new(".")))?;
+    let path = report.write(results)?;
     let summary = &report.summary;
     println!("Caution: {}", tidewater::CAUTION);
     println!("members\tfailed\tP(limit crossed)\tP(caution crossed)");

@@ -82,17 +82,13 @@ pub fn sweep_command(args: SweepOptions, style: Style) -> Result<bool> {
         "sweep: ran {ran} members in {secs:.1} s ({:.0} members/s)",
         ran as f64 / secs.max(1e-9)
     );
-    let outcomes = sweep::outcomes(&out, &spec)?;
-    report_failures(&outcomes, &out);
-    if outcomes.all_failed() {
-        // A summary of no result would hold only empty bands and NaN
-        // correlations: none is written.
-        return Ok(false);
-    }
     if args.summary && shard.count == 1 {
+        // Written even when every member failed: it records how many did.
         write_summary(&spec, &out, &scenario.plan().limits)?;
     }
-    Ok(true)
+    let outcomes = sweep::outcomes(&out, &spec)?;
+    report_failures(&outcomes, &out);
+    Ok(!outcomes.all_failed())
 }
 
 /// Take the exclusive lock of the result file `out` for the whole run: an
@@ -144,7 +140,7 @@ fn report_failures(outcomes: &sweep::Outcomes, out: &Path) {
     if outcomes.all_failed() {
         eprintln!(
             "sweep: every member failed ({} of {}); {why}\n\
-             sweep: no summary written; {} is kept (it is data: each row holds its member's error)",
+             sweep: no result; {} is kept (it is data: each row holds its member's error)",
             outcomes.failed,
             outcomes.members,
             out.display()

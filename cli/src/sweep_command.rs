@@ -28,6 +28,7 @@ fn load_spec(spec_path: &Path) -> Result<(SweepSpec, PathBuf, Scenario)> {
         .unwrap_or(Path::new("."))
         .join(&spec.scenario);
     let scenario = Scenario::load(&script).map_err(|e| anyhow::anyhow!("{e}"))?;
+    sweep::check_script_settings(&spec, &text, &spec_path.display().to_string(), &scenario)?;
     Ok((spec, script, scenario))
 }
 

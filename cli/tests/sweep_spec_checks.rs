@@ -67,3 +67,51 @@ fn a_member_count_beyond_the_maximum_is_refused_at_once() {
     );
     std::fs::remove_dir_all(&dir).unwrap();
 }
+
+#[test]
+fn a_script_setting_the_base_script_never_reads_is_refused() {
+    // nausea_settles.rhai reads no setting at all.
+    let (dir, spec) = spec_in_fresh_dir(
+        "sweep-script-name",
+        "design: grid\nparameters:\n  - name: script.nothing\n    values: [1, 2]\noutputs:\n  na_at_h: [6]\n",
+    );
+    let stderr = refused(&dir, &spec);
+    assert!(
+        stderr.contains(&format!(
+            "{}:4:5: parameter script.nothing: the base script never reads setting(\"nothing\", ...); it reads no setting",
+            spec.display()
+        )),
+        "{stderr}"
+    );
+    std::fs::remove_dir_all(&dir).unwrap();
+}
+
+#[test]
+fn a_misspelt_script_setting_is_refused_with_the_settings_the_script_reads() {
+    // severe_chronic_boluses.rhai reads setting("bolus_ml", 150).
+    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("..");
+    let bundled = root.join("scenarios/sweeps/bolus_dose_response.yaml");
+    let script = root
+        .join("scenarios/severe_chronic_boluses.rhai")
+        .canonicalize()
+        .unwrap();
+    let text = std::fs::read_to_string(bundled).unwrap();
+    let rest = text
+        .lines()
+        .filter(|l| !l.starts_with("scenario:"))
+        .collect::<Vec<_>>()
+        .join("\n")
+        .replace("script.bolus_ml", "script.bolus_mll");
+    assert!(
+        rest.contains("script.bolus_mll"),
+        "the bundled spec changed"
+    );
+    let (dir, spec) = spec_in_fresh_dir("sweep-script-misspelt", &format!("{rest}\n"));
+    std::fs::write(&spec, format!("scenario: {}\n{rest}\n", script.display())).unwrap();
+    let stderr = refused(&dir, &spec);
+    assert!(
+        stderr.contains("parameter script.bolus_mll: the base script never reads setting(\"bolus_mll\", ...) (did you mean \"script.bolus_ml\"?); the settings it reads: bolus_ml"),
+        "{stderr}"
+    );
+    std::fs::remove_dir_all(&dir).unwrap();
+}

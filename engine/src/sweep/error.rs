@@ -125,6 +125,16 @@ pub enum SpecProblem {
         /// The closest patient field, if one is close.
         suggestion: Option<String>,
     },
+    /// A `script.<name>` the base script never reads with `setting`.
+    #[error("parameter {name}: the base script never reads setting(\"{}\", ...){}; {}", name.trim_start_matches("script."), suggestion.as_ref().map(|s| format!(" (did you mean \"script.{s}\"?)")).unwrap_or_default(), if read.is_empty() { "it reads no setting".to_string() } else { format!("the settings it reads: {}", read.join(", ")) })]
+    UnreadSetting {
+        /// The name given.
+        name: String,
+        /// The closest setting the script reads, if one is close.
+        suggestion: Option<String>,
+        /// The settings the script reads.
+        read: Vec<String>,
+    },
     /// A grid over a distribution.
     #[error("design grid: use values or range, not distributions")]
     GridDistribution,

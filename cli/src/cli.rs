@@ -9,8 +9,8 @@ use std::path::PathBuf;
 pub const EXIT_CODES: &str = "\
 Exit codes:
   0  success
-  1  the run finished but an expectation failed, or a guideline limit was
-     crossed under --strict
+  1  the run finished but an expectation failed, a guideline limit was
+     crossed under --strict, or every member of a sweep failed
   2  bad input (option, script, YAML file) or a failed run; nothing is written
 
 Data go to stdout or to files; messages go to stderr. Set NO_COLOR to turn
@@ -104,7 +104,7 @@ pub enum Command {
     /// streamed to a CSV file that resumes if interrupted; summary (JSON),
     /// percentile fan chart and sensitivity chart beside it.
     #[command(
-        after_help = "Examples:\n  tidewater sweep scenarios/sweeps/bolus_uncertainty.yaml\n  tidewater sweep spec.yaml --out runs/s/results.csv --threads 2\n  tidewater sweep spec.yaml --shard 2/8 --out runs/s/shard-2.csv\n  tidewater sweep spec.yaml --design-only        # the members, without running them\n\nInside a Slurm array job the shard comes from SLURM_ARRAY_TASK_ID and\nSLURM_ARRAY_TASK_COUNT (see scenarios/sweeps/slurm_array.sh)."
+        after_help = "Examples:\n  tidewater sweep scenarios/sweeps/bolus_uncertainty.yaml\n  tidewater sweep spec.yaml --out runs/s/results.csv --threads 2\n  tidewater sweep spec.yaml --shard 2/8 --out runs/s/shard-2.csv\n  tidewater sweep spec.yaml --design-only        # the members, without running them\n\nInside a Slurm array job the shard comes from SLURM_ARRAY_TASK_ID and\nSLURM_ARRAY_TASK_COUNT (see scenarios/sweeps/slurm_array.sh).\n\nExit codes:\n  0  the sweep ran (some members may have failed: how many, and the first,\n     are printed)\n  1  every member failed: no result; the result file and summary are kept\n     (each row holds its member's error)\n  2  bad input (option, spec, script), another sweep writing the same\n     result file, or a failed run"
     )]
     Sweep(SweepArgs),
     /// Join the result files of sweep shards (the same file an unsharded

@@ -43,8 +43,8 @@ use std::process::ExitCode;
 enum Outcome {
     /// Everything held.
     Ok,
-    /// Finished, but an expectation failed or (under --strict) a limit was
-    /// crossed.
+    /// Finished, but an expectation failed, (under --strict) a limit was
+    /// crossed, or every member of a sweep failed.
     Failed,
 }
 
@@ -107,7 +107,7 @@ fn dispatch(task: Task, style: Style) -> Result<Outcome> {
             commands::params();
             Ok(Outcome::Ok)
         }
-        Task::Sweep(opts) => sweep_command::sweep_command(opts, style).map(ok),
+        Task::Sweep(opts) => sweep_command::sweep_command(opts, style).map(Outcome::from),
         Task::Merge(opts) => sweep_command::merge_command(opts).map(ok),
         Task::Check(opts) => check::check_command(opts, style).map(Outcome::from),
         Task::Validate(args) => validate::validate_command(args, style).map(Outcome::from),

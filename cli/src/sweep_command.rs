@@ -28,11 +28,13 @@ fn load_spec(spec_path: &Path) -> Result<(SweepSpec, PathBuf, Scenario)> {
         .unwrap_or(Path::new("."))
         .join(&spec.scenario);
     let scenario = Scenario::load(&script).map_err(|e| anyhow::anyhow!("{e}"))?;
+    sweep::check_script_settings(&spec, &text, &spec_path.display().to_string(), &scenario)?;
     Ok((spec, script, scenario))
 }
 
-/// Run `tidewater sweep`.
-pub fn sweep_command(args: SweepOptions, style: Style) -> Result<()> {
+/// Run `tidewater sweep`. Returns `false` when the run finished but every
+/// member failed (exit 1: no result; the result file stays, as data).
+pub fn sweep_command(args: SweepOptions, style: Style) -> Result<bool> {
     // The scenario is loaded once here to report script errors before any
     // work starts.
     let (spec, script, scenario) = load_spec(&args.spec)?;
@@ -44,7 +46,7 @@ pub fn sweep_command(args: SweepOptions, style: Style) -> Result<()> {
         for i in (0..spec.member_count()).filter(|i| shard.contains(*i)) {
             writeln!(out, "{}", sweep::design_cells(&spec.member(i)).join(","))?;
         }
-        return Ok(());
+        return Ok(true);
     }
     let out = args.out_file(shard);
     if let Some(dir) = out.parent() {
@@ -53,6 +55,8 @@ pub fn sweep_command(args: SweepOptions, style: Style) -> Result<()> {
                 .with_context(|| format!("cannot create {}", dir.display()))?;
         }
     }
+    // One writer at a time, held until this function returns.
+    let _lock = lock_output(&out)?;
     // Rows are resumed or merged only with rows of this very spec, script
     // and engine.
     sweep::claim_output(&out, &sweep::fingerprint(&spec, scenario.source()))?;
@@ -80,9 +84,74 @@ pub fn sweep_command(args: SweepOptions, style: Style) -> Result<()> {
         ran as f64 / secs.max(1e-9)
     );
     if args.summary && shard.count == 1 {
+        // Written even when every member failed: it records how many did.
         write_summary(&spec, &out, &scenario.plan().limits)?;
     }
-    Ok(())
+    let outcomes = sweep::outcomes(&out, &spec)?;
+    report_failures(&outcomes, &out);
+    Ok(!outcomes.all_failed())
+}
+
+/// Take the exclusive lock of the result file `out` for the whole run: an
+/// OS lock (flock on unix) on `<out>.lock` beside it, so that two sweeps
+/// never append to one file. The kernel drops the lock when the process
+/// ends however it ends, so a killed run leaves no stale lock. The lock
+/// file itself stays: removing it would let a later run lock a new file
+/// while a waiting one holds the old.
+fn lock_output(out: &Path) -> Result<std::fs::File> {
+    let mut name = out.as_os_str().to_owned();
+    name.push(".lock");
+    let path = PathBuf::from(name);
+    let file = std::fs::OpenOptions::new()
+        .create(true)
+        .truncate(false)
+        .write(true)
+        .open(&path)
+        .with_context(|| format!("cannot open the lock file {}", path.display()))?;
+    match fs4::FileExt::try_lock(&file) {
+        Ok(()) => Ok(file),
+        Err(fs4::TryLockError::WouldBlock) => Err(anyhow::anyhow!(
+            "another tidewater sweep is writing {} (it holds {}): wait for it to end, or choose another --out",
+            out.display(),
+            path.display()
+        )),
+        Err(fs4::TryLockError::Error(e)) => {
+            Err(anyhow::anyhow!("cannot lock {}: {e}", path.display()))
+        }
+    }
+}
+
+/// Tell on stderr how many members of the result file `out` failed and
+/// why the first did.
+fn report_failures(outcomes: &sweep::Outcomes, out: &Path) {
+    let Some(first) = &outcomes.first_failure else {
+        return;
+    };
+    let values: Vec<String> = first
+        .values
+        .iter()
+        .map(|(name, value)| format!("{name} = {value}"))
+        .collect();
+    let why = format!(
+        "the first, member {} ({}), failed: {}",
+        first.index,
+        values.join(", "),
+        first.error
+    );
+    if outcomes.all_failed() {
+        eprintln!(
+            "sweep: every member failed ({} of {}); {why}\n\
+             sweep: no result; {} is kept (it is data: each row holds its member's error)",
+            outcomes.failed,
+            outcomes.members,
+            out.display()
+        );
+    } else {
+        eprintln!(
+            "sweep: {} of {} members failed; {why}",
+            outcomes.failed, outcomes.members
+        );
+    }
 }
 
 /// An error about the result file, as the engine words it.
@@ -180,7 +249,7 @@ pub fn merge_command(args: MergeOptions) -> Result<()> {
 /// beside it, and print the summary as tables on stdout.
 fn write_summary(spec: &SweepSpec, results: &Path, limits: &LimitChoice) -> Result<()> {
     let report = SweepReport::read(spec, results, limits)?;
-    let path = report.write(results.parent().unwrap_or(Path::new(".")))?;
+    let path = report.write(results)?;
     let summary = &report.summary;
     println!("Caution: {}", tidewater::CAUTION);
     println!("members\tfailed\tP(limit crossed)\tP(caution crossed)");

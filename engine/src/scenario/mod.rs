@@ -129,6 +129,12 @@ impl ScenarioRun {
 }
 
 impl Scenario {
+    /// The names the script asked `setting(name, default)` for, in its
+    /// last load or run.
+    pub fn settings_read(&self) -> Vec<String> {
+        self.state.borrow().settings_read.iter().cloned().collect()
+    }
+
     /// The title (`title(...)`, or the file name).
     pub fn title(&self) -> &str {
         &self.script.title

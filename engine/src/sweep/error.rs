@@ -30,15 +30,18 @@ pub enum SweepError {
         message: String,
     },
     /// A field of the spec with a value that cannot be used.
-    #[error("{file}: {problem}")]
+    #[error("{file}{}: {problem}", location.map(|(l, c)| format!(":{l}:{c}")).unwrap_or_default())]
     Spec {
         /// Spec file.
         file: String,
+        /// Line and column (1-based) of the field, where it is written in
+        /// the spec (a missing field has none).
+        location: Option<(usize, usize)>,
         /// The field, as a path into the spec (`parameters[2].values`,
         /// `outputs.na_at_h[0]`, `rtol`).
         field: String,
-        /// What is wrong with it.
-        problem: SpecProblem,
+        /// What is wrong with it (boxed: it keeps the error small).
+        problem: Box<SpecProblem>,
     },
     /// A result file, shard or fingerprint that does not fit this sweep or
     /// cannot be read as one.
@@ -113,6 +116,25 @@ pub enum SpecProblem {
         /// The closest engine parameter, if one is close.
         suggestion: Option<String>,
     },
+    /// A `patient.<field>` whose field is not a numeric patient field
+    /// ([`crate::patient::numeric_patient_fields`]).
+    #[error("parameter {name}: not a numeric patient field{}; the fields are {}", suggestion.as_ref().map(|s| format!(" (did you mean \"patient.{s}\"?)")).unwrap_or_default(), crate::patient::numeric_patient_fields().collect::<Vec<_>>().join(", "))]
+    UnknownPatientField {
+        /// The name given.
+        name: String,
+        /// The closest patient field, if one is close.
+        suggestion: Option<String>,
+    },
+    /// A `script.<name>` the base script never reads with `setting`.
+    #[error("parameter {name}: the base script never reads setting(\"{}\", ...){}; {}", name.trim_start_matches("script."), suggestion.as_ref().map(|s| format!(" (did you mean \"script.{s}\"?)")).unwrap_or_default(), if read.is_empty() { "it reads no setting".to_string() } else { format!("the settings it reads: {}", read.join(", ")) })]
+    UnreadSetting {
+        /// The name given.
+        name: String,
+        /// The closest setting the script reads, if one is close.
+        suggestion: Option<String>,
+        /// The settings the script reads.
+        read: Vec<String>,
+    },
     /// A grid over a distribution.
     #[error("design grid: use values or range, not distributions")]
     GridDistribution,
@@ -122,6 +144,18 @@ pub enum SpecProblem {
     /// A random design without a member count.
     #[error("members: give the number of members (> 0)")]
     NoMembers,
+    /// More members than a sweep may have ([`super::MAX_MEMBERS`]).
+    #[error("members: {members} is more than the most one sweep runs ({}); split a larger study into shards or several specs", super::MAX_MEMBERS)]
+    TooManyMembers {
+        /// The count given.
+        members: usize,
+    },
+    /// A grid with more members than a sweep may have.
+    #[error("design grid: {members} members (the product of the lists' lengths and levels) is more than the most one sweep runs ({}); use fewer levels or values", super::MAX_MEMBERS)]
+    TooLargeGrid {
+        /// The grid's size, as text (it may not fit a number).
+        members: String,
+    },
     /// A solver tolerance outside the admissible range.
     #[error("rtol: {rtol} is outside 1e-10..=1e-2")]
     Rtol {
@@ -265,8 +299,9 @@ impl SweepError {
     pub(super) fn spec(file: &str, field: impl Into<String>, problem: SpecProblem) -> Self {
         SweepError::Spec {
             file: file.to_string(),
+            location: None,
             field: field.into(),
-            problem,
+            problem: Box::new(problem),
         }
     }
 
@@ -316,7 +351,12 @@ impl From<SweepError> for InputError {
                 location,
                 message,
             } => (file, location, message),
-            SweepError::Spec { file, problem, .. } => (file, None, problem.to_string()),
+            SweepError::Spec {
+                file,
+                location,
+                problem,
+                ..
+            } => (file, location, problem.to_string()),
             SweepError::Results { file, problem } => (file, None, problem.to_string()),
             SweepError::Io { file, error } => (file, None, error.to_string()),
             SweepError::Runner { file, message } => (file, None, message),

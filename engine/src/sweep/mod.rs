@@ -45,9 +45,12 @@
 //!   [`PlanRunner`] (a bare plan), [`apply_overrides`], [`run_sweep`] with
 //!   its [`Progress`] and the writer that keeps rows in member order.
 //! * `rows.rs`: [`design_header`], [`design_cells`], [`result_header`],
-//!   [`result_row`], reading rows back, [`completed_members`].
+//!   [`result_row`], reading rows back, [`completed_members`], [`outcomes`]
+//!   (how many members failed, and the first failure).
 //! * `fingerprint.rs`: [`fingerprint`], [`fingerprint_path`],
 //!   [`claim_output`].
+//! * `locate.rs`: the line and column of a spec field in the YAML text,
+//!   for the errors of the spec's checks.
 //! * `merge.rs`: [`merge`].
 //! * `stats.rs`: [`Histogram`], [`Moments`]; `summary.rs`: [`Summary`].
 //! * `error.rs`: [`SweepError`] with [`SpecProblem`],
@@ -57,6 +60,7 @@
 mod design;
 mod error;
 mod fingerprint;
+mod locate;
 mod merge;
 mod random;
 mod rows;
@@ -70,11 +74,14 @@ pub use error::{DistributionProblem, ResultProblem, SpecProblem, SweepError};
 pub use fingerprint::{claim_output, fingerprint, fingerprint_path};
 pub use merge::merge;
 pub use random::{normal_cdf, normal_quantile, SplitMix64};
-pub use rows::{completed_members, design_cells, design_header, result_header, result_row};
-pub use runner::{
-    apply_overrides, run_sweep, set_patient_field, MemberRunner, PlanRunner, Progress,
-    ScenarioRunner,
+pub use rows::{
+    completed_members, design_cells, design_header, outcomes, result_header, result_row,
+    FailedMember, Outcomes,
 };
-pub use spec::{Design, Distribution, SweepOutputs, SweepParameter, SweepSpec};
+pub use runner::{
+    apply_overrides, check_script_settings, run_sweep, set_patient_field, MemberRunner, PlanRunner,
+    Progress, ScenarioRunner,
+};
+pub use spec::{Design, Distribution, SweepOutputs, SweepParameter, SweepSpec, MAX_MEMBERS};
 pub use stats::{Histogram, Moments};
 pub use summary::Summary;

@@ -214,3 +214,114 @@ pub fn completed_members(path: &Path, header: &[String]) -> Result<Vec<usize>, S
     }
     Ok(done)
 }
+
+/// A member that failed, as its row in a result file records it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FailedMember {
+    /// The member number.
+    pub index: usize,
+    /// The varied parameters' names with the member's values, as written.
+    pub values: Vec<(String, String)>,
+    /// Why the member failed.
+    pub error: String,
+}
+
+/// How the members of a result file came out: how many rows, how many
+/// failed, and the first failure in file (member) order.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Outcomes {
+    /// Rows in the file.
+    pub members: usize,
+    /// Rows whose status is `failed`.
+    pub failed: usize,
+    /// The first failed row.
+    pub first_failure: Option<FailedMember>,
+}
+
+impl Outcomes {
+    /// Every row failed (and there is at least one): the sweep gave no
+    /// result.
+    pub fn all_failed(&self) -> bool {
+        self.members > 0 && self.failed == self.members
+    }
+}
+
+/// Count the failed members of the result file `path` of `spec` and keep
+/// the first failure with its parameter values and error.
+pub fn outcomes(path: &Path, spec: &SweepSpec) -> Result<Outcomes, SweepError> {
+    let file_name = path.display().to_string();
+    let text = std::fs::read_to_string(path).map_err(|e| SweepError::io(&file_name, e))?;
+    let names = design_header(spec);
+    let status_at = names.len();
+    let mut tally = Outcomes::default();
+    for line in text.lines().skip(1).filter(|l| !l.is_empty()) {
+        tally.members += 1;
+        let cells = split_csv(line);
+        if cells.get(status_at) != Some(&"failed") {
+            continue;
+        }
+        tally.failed += 1;
+        if tally.first_failure.is_none() {
+            let error = cells.last().copied().unwrap_or("");
+            let error = error
+                .strip_prefix('"')
+                .and_then(|e| e.strip_suffix('"'))
+                .unwrap_or(error)
+                .replace("\"\"", "\"");
+            tally.first_failure = Some(FailedMember {
+                index: member_of(line).unwrap_or(0),
+                values: names[1..]
+                    .iter()
+                    .zip(cells[1..status_at].iter())
+                    .map(|(n, v)| (n.clone(), v.to_string()))
+                    .collect(),
+                error,
+            });
+        }
+    }
+    Ok(tally)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::sweep::spec::tests::spec;
+
+    #[test]
+    fn outcomes_count_failures_and_keep_the_first_with_its_values() {
+        let s = spec("random", "members: 3\n");
+        let dir = std::env::temp_dir().join(format!("tidewater-outcomes-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).unwrap();
+        let path = dir.join("r.csv");
+        let mut text = result_header(&s, 24.0).join(",") + "\n";
+        for i in 0..3 {
+            let outcome = if i == 0 {
+                Err("na = \"300\" is outside 95..=190".to_string())
+            } else {
+                Err(format!("member {i} broke"))
+            };
+            text += &(result_row(&s, &s.member(i), 24.0, &outcome) + "\n");
+        }
+        std::fs::write(&path, &text).unwrap();
+        let all = outcomes(&path, &s).unwrap();
+        assert_eq!((all.members, all.failed), (3, 3));
+        assert!(all.all_failed());
+        let first = all.first_failure.unwrap();
+        assert_eq!(first.index, 0);
+        assert_eq!(first.error, "na = \"300\" is outside 95..=190");
+        let names: Vec<&str> = first.values.iter().map(|(n, _)| n.as_str()).collect();
+        assert_eq!(
+            names,
+            ["natriuresis_gain", "patient.weight_kg", "gfr_ml_min"]
+        );
+        assert_eq!(first.values[1].1, format!("{:.6}", s.member(0).values[1]));
+
+        // No failure at all: nothing to report.
+        let header_only = result_header(&s, 24.0).join(",") + "\n";
+        std::fs::write(&path, header_only).unwrap();
+        let none = outcomes(&path, &s).unwrap();
+        assert_eq!(none, Outcomes::default());
+        assert!(!none.all_failed());
+        std::fs::remove_dir_all(&dir).unwrap();
+    }
+}

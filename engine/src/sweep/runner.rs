@@ -84,6 +84,45 @@ pub fn apply_overrides(
     Ok(())
 }
 
+/// Refuse a `script.<name>` of `spec` (parsed from `text`, the file
+/// `file`) that the base `scenario`, as loaded once before any member
+/// runs, never reads with `setting(name, default)`: it would vary nothing.
+/// A setting read only inside a rule is read at run time, not at load: a
+/// name written as a string (`"name"`) in the script is let through, so
+/// that only a name the script cannot read is refused.
+pub fn check_script_settings(
+    spec: &SweepSpec,
+    text: &str,
+    file: &str,
+    scenario: &crate::scenario::Scenario,
+) -> Result<(), SweepError> {
+    let read = scenario.settings_read();
+    for (i, p) in spec.parameters.iter().enumerate() {
+        let Some(name) = p.name.strip_prefix("script.") else {
+            continue;
+        };
+        if read.iter().any(|r| r == name) || scenario.source().contains(&format!("\"{name}\"")) {
+            continue;
+        }
+        let field = format!("parameters[{i}].name");
+        let location = super::locate::field_position(text, &field);
+        let mut e = SweepError::spec(
+            file,
+            field,
+            super::error::SpecProblem::UnreadSetting {
+                name: p.name.clone(),
+                suggestion: crate::suggest::closest(name, read.iter().map(|r| r.as_str())),
+                read: read.clone(),
+            },
+        );
+        if let SweepError::Spec { location: at, .. } = &mut e {
+            *at = location;
+        }
+        return Err(e);
+    }
+    Ok(())
+}
+
 /// A runner for a base scenario script: each member is the script loaded
 /// afresh (with the member's `script.<name>` settings), its plan changed by
 /// the member's other overrides, run with the script's rules and
@@ -266,5 +305,55 @@ impl<W: Write> OrderedWriter<W> {
             self.out.flush()?;
         }
         Ok(())
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::scenario::Scenario;
+
+    #[test]
+    fn a_script_setting_the_script_never_reads_is_refused() {
+        let source = "patient(#{ sex: \"female\", age_years: 58, weight_kg: 66, height_cm: 164, na: 140 });\nrun_for(hours(2));\nlet extra = setting(\"bolus_ml\", 150);\n";
+        let scenario =
+            Scenario::from_source_with_settings("s.rhai", source, Path::new("."), &[]).unwrap();
+        assert_eq!(scenario.settings_read(), ["bolus_ml"]);
+        let spec_with = |name: &str| {
+            format!("scenario: s.rhai\ndesign: grid\nparameters:\n  - name: gfr_ml_min\n    values: [90]\n  - name: {name}\n    values: [100, 200]\n")
+        };
+        let text = spec_with("script.bolus_ml");
+        let spec = SweepSpec::from_yaml(&text, "k.yaml").unwrap();
+        assert!(check_script_settings(&spec, &text, "k.yaml", &scenario).is_ok());
+
+        let text = spec_with("script.bolus_mll");
+        let spec = SweepSpec::from_yaml(&text, "k.yaml").unwrap();
+        let err = check_script_settings(&spec, &text, "k.yaml", &scenario).unwrap_err();
+        assert_eq!(err.field(), Some("parameters[1].name"));
+        assert_eq!(
+            err.to_string(),
+            "k.yaml:6:5: parameter script.bolus_mll: the base script never reads setting(\"bolus_mll\", ...) (did you mean \"script.bolus_ml\"?); the settings it reads: bolus_ml"
+        );
+
+        let bare = Scenario::from_source_with_settings(
+            "b.rhai",
+            &source.replace("let extra = setting(\"bolus_ml\", 150);\n", ""),
+            Path::new("."),
+            &[],
+        )
+        .unwrap();
+        let err = check_script_settings(&spec, &text, "k.yaml", &bare).unwrap_err();
+        assert!(err.to_string().ends_with("; it reads no setting"), "{err}");
+
+        // Read only inside a rule, at run time: named in the script, so
+        // let through.
+        let in_rule = Scenario::from_source_with_settings(
+            "r.rhai",
+            &format!("{source}let late = || setting(\"bolus_mll\", 1);\n"),
+            Path::new("."),
+            &[],
+        )
+        .unwrap();
+        assert!(check_script_settings(&spec, &text, "k.yaml", &in_rule).is_ok());
     }
 }

@@ -9,6 +9,16 @@ use serde::{Deserialize, Serialize};
 /// The longest run a plan allows (60 days), h.
 const LONGEST_RUN_H: f64 = 24.0 * 60.0;
 
+/// The most members one sweep (or one run of a shard's spec) may have.
+/// At the 1,300-1,900 members/s measured for the bundled bolus sweep on
+/// the two-core development machine (release build; DEVELOPERS.md,
+/// "Sweeps") ten million members take 1.5-2 h, and the list of members
+/// still to run stays under 100 MB;
+/// a larger study belongs in shards (`--shard K/N`) of several specs with
+/// their own seeds, joined with `tidewater merge`. Without a bound a
+/// mistyped count (4294967296) asks for gigabytes before the first member.
+pub const MAX_MEMBERS: usize = 10_000_000;
+
 /// How one parameter varies across members.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(tag = "kind", rename_all = "snake_case", deny_unknown_fields)]
@@ -237,7 +247,15 @@ impl SweepSpec {
             location: e.location,
             message: e.message,
         })?;
-        spec.check(file)?;
+        spec.check(file).map_err(|mut e| {
+            if let SweepError::Spec {
+                location, field, ..
+            } = &mut e
+            {
+                *location = super::locate::field_position(text, field);
+            }
+            e
+        })?;
         Ok(spec)
     }
 
@@ -308,6 +326,20 @@ impl SweepSpec {
                     },
                 );
             }
+            // Checked here, before any member runs, against the one list
+            // the members' overrides are applied from.
+            if let Some(field) = p.name.strip_prefix("patient.") {
+                let known = crate::patient::numeric_patient_fields();
+                if !crate::patient::numeric_patient_fields().any(|f| f == field) {
+                    return fail(
+                        at(".name"),
+                        SpecProblem::UnknownPatientField {
+                            name: name(),
+                            suggestion: crate::suggest::closest(field, known),
+                        },
+                    );
+                }
+            }
         }
         match self.design {
             Design::Grid => {
@@ -327,9 +359,33 @@ impl SweepSpec {
                 }
             }
             Design::Random | Design::LatinHypercube => {
-                if self.members.unwrap_or(0) == 0 {
+                let members = self.members.unwrap_or(0);
+                if members == 0 {
                     return fail("members".into(), SpecProblem::NoMembers);
                 }
+                if members > MAX_MEMBERS {
+                    return fail("members".into(), SpecProblem::TooManyMembers { members });
+                }
+            }
+        }
+        if self.design == Design::Grid {
+            // The grid's size, counted without overflow.
+            let levels = self.levels.unwrap_or(2);
+            let count = self.parameters.iter().try_fold(1usize, |n, p| {
+                n.checked_mul(p.values.as_ref().map_or(levels, |v| v.len()))
+            });
+            if count.is_none_or(|n| n > MAX_MEMBERS) {
+                let field = if self.parameters.iter().any(|p| p.range.is_some()) {
+                    "levels"
+                } else {
+                    "parameters"
+                };
+                return fail(
+                    field.into(),
+                    SpecProblem::TooLargeGrid {
+                        members: count.map_or_else(|| "more than 2^64".into(), |n| n.to_string()),
+                    },
+                );
             }
         }
         if let Some(rtol) = self.rtol {
@@ -410,37 +466,37 @@ pub(super) mod tests {
             (
                 format!("{head}parameters:\n{ok}  - name: natriuresis_gain\n    values: []\n"),
                 "parameters[1].values",
-                "x.yaml: parameter natriuresis_gain: values must be finite and not empty",
+                "x.yaml:8:5: parameter natriuresis_gain: values must be finite and not empty",
             ),
             (
                 format!("{head}parameters:\n{ok}  - name: natriuresis_gain\n    range: [5, 20]\n  - name: kf_ml_min_mmhg\n    distribution: {{ kind: normal, mean: 90, sd: 0 }}\n"),
                 "parameters[2].distribution",
-                "x.yaml: parameter kf_ml_min_mmhg: normal needs sd > 0",
+                "x.yaml:10:5: parameter kf_ml_min_mmhg: normal needs sd > 0",
             ),
             (
                 format!("{head}parameters:\n{ok}  - name: natriuresis_gain\n    range: [5, 20]\n{ok}"),
                 "parameters[2].name",
-                "x.yaml: parameter gfr_ml_min is listed twice (also as parameters[0])",
+                "x.yaml:9:5: parameter gfr_ml_min is listed twice (also as parameters[0])",
             ),
             (
                 format!("{head}outputs:\n  band_every_h: .inf\nparameters:\n{ok}"),
                 "outputs.band_every_h",
-                "x.yaml: outputs.band_every_h: inf h; give 0 (no bands) or an interval from 1 min (0.0167 h) to 1440 h",
+                "x.yaml:5:3: outputs.band_every_h: inf h; give 0 (no bands) or an interval from 1 min (0.0167 h) to 1440 h",
             ),
             (
                 format!("{head}outputs:\n  band_every_h: 1e-300\nparameters:\n{ok}"),
                 "outputs.band_every_h",
-                "x.yaml: outputs.band_every_h: 1e-300 h; give 0 (no bands) or an interval from 1 min (0.0167 h) to 1440 h",
+                "x.yaml:5:3: outputs.band_every_h: 1e-300 h; give 0 (no bands) or an interval from 1 min (0.0167 h) to 1440 h",
             ),
             (
                 format!("{head}outputs:\n  na_at_h: [6, 1e300]\nparameters:\n{ok}"),
                 "outputs.na_at_h[1]",
-                "x.yaml: outputs: 1e300 h is beyond the longest run (60 days, 1440 h)",
+                "x.yaml:5:3: outputs: 1e300 h is beyond the longest run (60 days, 1440 h)",
             ),
             (
                 format!("{head}outputs:\n  na_at_h: [6, -1]\nparameters:\n{ok}"),
                 "outputs.na_at_h[1]",
-                "x.yaml: outputs: times must be >= 0",
+                "x.yaml:5:3: outputs: times must be >= 0",
             ),
             (
                 format!("scenario: b\ndesign: grid\nparameters:\n{ok}"),
@@ -454,5 +510,68 @@ pub(super) mod tests {
             assert_eq!(err.file(), "x.yaml");
             assert_eq!(err.to_string(), message);
         }
+    }
+
+    #[test]
+    fn a_patient_field_is_checked_before_any_member_runs() {
+        // The misspelt field is refused by the spec check, with its line,
+        // a suggestion and the list the members' overrides use.
+        let text = "scenario: b\ndesign: grid\nparameters:\n  - name: gfr_ml_min\n    values: [90]\n  - name: patient.water_fracction\n    values: [0.5]\n";
+        let err = SweepSpec::from_yaml(text, "m.yaml").unwrap_err();
+        assert_eq!(err.field(), Some("parameters[1].name"));
+        let shown = err.to_string();
+        assert!(
+            shown.starts_with("m.yaml:6:5: parameter patient.water_fracction: not a numeric patient field (did you mean \"patient.water_fraction\"?)"),
+            "{shown}"
+        );
+        for field in crate::patient::numeric_patient_fields() {
+            assert!(shown.contains(field), "{field} listed: {shown}");
+            let good = text.replace("water_fracction", field);
+            assert!(SweepSpec::from_yaml(&good, "m.yaml").is_ok(), "{field}");
+        }
+        // A text field cannot be varied.
+        let sex = text.replace("water_fracction", "sex");
+        assert!(SweepSpec::from_yaml(&sex, "m.yaml").is_err());
+    }
+
+    #[test]
+    fn member_counts_have_a_documented_maximum() {
+        let with = |members: &str| {
+            format!("scenario: b\ndesign: latin_hypercube\nmembers: {members}\nparameters:\n  - name: gfr_ml_min\n    range: [60, 120]\n")
+        };
+        assert!(SweepSpec::from_yaml(&with(&MAX_MEMBERS.to_string()), "h.yaml").is_ok());
+        for too_many in ["4294967296", "10000001"] {
+            let err = SweepSpec::from_yaml(&with(too_many), "h.yaml").unwrap_err();
+            assert_eq!(err.field(), Some("members"));
+            assert_eq!(
+                err.to_string(),
+                format!("h.yaml:3:1: members: {too_many} is more than the most one sweep runs (10000000); split a larger study into shards or several specs")
+            );
+        }
+        // Not a whole number of members: refused by the parser, with the
+        // line, before anything is drawn.
+        for bad in ["1e12", "2.5", "-3", "many"] {
+            let shown = SweepSpec::from_yaml(&with(bad), "h.yaml")
+                .unwrap_err()
+                .to_string();
+            assert!(
+                shown.starts_with("h.yaml:3:10: members: invalid type"),
+                "{bad}: {shown}"
+            );
+        }
+        // A grid counts its members without overflow.
+        let grid = |levels: &str| {
+            format!("scenario: b\ndesign: grid\nlevels: {levels}\nparameters:\n  - name: gfr_ml_min\n    range: [60, 120]\n  - name: natriuresis_gain\n    range: [8, 18]\n  - name: patient.na\n    range: [115, 125]\n")
+        };
+        assert!(SweepSpec::from_yaml(&grid("200"), "g.yaml").is_ok());
+        let err = SweepSpec::from_yaml(&grid("4294967296"), "g.yaml").unwrap_err();
+        assert_eq!(err.field(), Some("levels"));
+        assert!(
+            err.to_string()
+                .starts_with("g.yaml:3:1: design grid: more than 2^64 members"),
+            "{err}"
+        );
+        let err = SweepSpec::from_yaml(&grid("216"), "g.yaml").unwrap_err();
+        assert!(err.to_string().contains("10077696 members"), "{err}");
     }
 }

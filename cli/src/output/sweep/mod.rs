@@ -7,7 +7,7 @@ pub mod charts;
 pub mod json;
 
 use super::{Output, Placement};
-use anyhow::{bail, Result};
+use anyhow::{bail, Context, Result};
 use std::path::{Path, PathBuf};
 use tidewater::limits::{LimitChoice, Rule};
 use tidewater::sweep::{Summary, SweepSpec};
@@ -74,10 +74,27 @@ impl SweepReport {
         })
     }
 
-    /// Write every output into `dir`, beside the result file (each file
-    /// whole or not at all). Returns the path of `summary.json`.
-    pub fn write(&self, dir: &Path) -> Result<PathBuf> {
-        super::write(self, &OUTPUTS, dir, Placement::Beside)?;
+    /// Write every output beside the result file `results` (each file
+    /// whole or not at all), with the result file's permissions. Returns
+    /// the path of `summary.json`.
+    pub fn write(&self, results: &Path) -> Result<PathBuf> {
+        let dir = match results.parent() {
+            Some(p) if !p.as_os_str().is_empty() => p,
+            _ => Path::new("."),
+        };
+        let written = super::write(self, &OUTPUTS, dir, Placement::Beside)?;
+        // Each file is written through a temporary file, which is created
+        // owner-only (0600 on unix); the result file, written plainly,
+        // follows the umask (0644 under the usual 022). The summary and
+        // charts take the result file's mode, so that whoever may read
+        // the rows may read their summary too.
+        let mode = std::fs::metadata(results)
+            .with_context(|| format!("reading {}", results.display()))?
+            .permissions();
+        for path in &written {
+            std::fs::set_permissions(path, mode.clone())
+                .with_context(|| format!("setting the permissions of {}", path.display()))?;
+        }
         Ok(dir.join(json::FILE_NAME))
     }
 }

@@ -157,7 +157,10 @@ pub(super) fn register(engine: &mut Engine, st: &Shared, source: Rc<str>) {
         move |ctx: NativeCallContext, name: Dynamic, default: Dynamic| -> Res<f64> {
             let key = arg_text(&ctx, "setting", "the setting's name", &name)?;
             let fallback = arg_number(&ctx, "setting", "the default value", &default)?;
-            Ok(s.borrow().settings.get(&key).copied().unwrap_or(fallback))
+            let mut s = s.borrow_mut();
+            let value = s.settings.get(&key).copied().unwrap_or(fallback);
+            s.settings_read.insert(key);
+            Ok(value)
         },
     );
     // --- the case -----------------------------------------------------

@@ -81,6 +81,9 @@ pub(crate) struct State {
     pub next_id: u64,
     /// Values given from outside (a sweep member) for `setting(name, default)`.
     pub settings: std::collections::BTreeMap<String, f64>,
+    /// The names `setting(name, default)` was asked for (a sweep refuses
+    /// a `script.<name>` the script never reads).
+    pub settings_read: std::collections::BTreeSet<String>,
 }
 
 impl State {
@@ -104,6 +107,7 @@ impl State {
             dangling: Vec::new(),
             next_id: 0,
             settings: Default::default(),
+            settings_read: Default::default(),
         }
     }
 }

@@ -133,8 +133,16 @@ fn write_whole(path: &Path, bytes: &[u8]) -> Result<()> {
         _ => PathBuf::from("."),
     };
     std::fs::create_dir_all(&dir).with_context(|| format!("creating {}", dir.display()))?;
-    let mut tmp = tempfile::Builder::new()
-        .prefix(".tidewater-")
+    let mut builder = tempfile::Builder::new();
+    builder.prefix(".tidewater-");
+    // Created as a plain file is (0666 less the umask), not the temporary
+    // file's private 0600: a result file is for the user's other tools.
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        builder.permissions(std::fs::Permissions::from_mode(0o666));
+    }
+    let mut tmp = builder
         .tempfile_in(&dir)
         .with_context(|| format!("creating a temporary file in {}", dir.display()))?;
     std::io::Write::write_all(&mut tmp, bytes)
@@ -267,6 +275,19 @@ fn write_atomically(dest: &Path, fill: impl FnOnce(&Path) -> Result<()>) -> Resu
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[cfg(unix)]
+    #[test]
+    fn files_written_beside_others_have_a_plain_files_mode() {
+        use std::os::unix::fs::PermissionsExt;
+        let root = tempfile::tempdir().unwrap();
+        let plain = root.path().join("plain");
+        std::fs::File::create(&plain).unwrap();
+        let ours = root.path().join("ours.json");
+        write_whole(&ours, b"{}").unwrap();
+        let mode = |p: &Path| std::fs::metadata(p).unwrap().permissions().mode() & 0o777;
+        assert_eq!(mode(&ours), mode(&plain));
+    }
 
     #[test]
     fn failed_fill_leaves_nothing() {

@@ -159,11 +159,11 @@ fn summary_gives_bands_probabilities_and_a_sensible_ranking() {
     assert_eq!(
         outputs,
         [
-            "na_at_6h",
-            "na_at_12h",
-            "na_at_24h",
-            "largest_rise_24h",
-            "largest_rise_48h",
+            "na_at_6h_mmol_l",
+            "na_at_12h_mmol_l",
+            "na_at_24h_mmol_l",
+            "largest_rise_24h_mmol_l",
+            "largest_rise_48h_mmol_l",
             "min_brain_volume_index"
         ]
     );

@@ -113,7 +113,11 @@ fn summary_lists_every_limit_with_its_probability() {
             .as_f64()
             .unwrap()
     };
-    assert!(r("largest_rise_24h") < -0.5, "{}", r("largest_rise_24h"));
+    assert!(
+        r("largest_rise_24h_mmol_l") < -0.5,
+        "{}",
+        r("largest_rise_24h_mmol_l")
+    );
     assert!(
         r("min_brain_volume_index") > 0.5,
         "{}",

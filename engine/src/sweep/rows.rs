@@ -31,13 +31,13 @@ pub fn result_header(spec: &SweepSpec, duration_h: f64) -> Vec<String> {
     let mut h = design_header(spec);
     h.push("status".into());
     for t in &spec.outputs.na_at_h {
-        h.push(format!("na_at_{}h", fmt_num(*t)));
+        h.push(format!("na_at_{}h_mmol_l", fmt_num(*t)));
     }
     if spec.outputs.largest_rise_24h {
-        h.push("largest_rise_24h".into());
+        h.push("largest_rise_24h_mmol_l".into());
     }
     if spec.outputs.largest_rise_48h {
-        h.push("largest_rise_48h".into());
+        h.push("largest_rise_48h_mmol_l".into());
     }
     if spec.outputs.min_brain_volume_index {
         h.push("min_brain_volume_index".into());
@@ -49,7 +49,7 @@ pub fn result_header(spec: &SweepSpec, duration_h: f64) -> Vec<String> {
     }
     h.push("balance_residual".into());
     for t in band_times(spec, duration_h) {
-        h.push(format!("band_na_{}h", fmt_num(t)));
+        h.push(format!("band_na_{}h_mmol_l", fmt_num(t)));
     }
     h.push("error".into());
     h
@@ -125,7 +125,8 @@ pub fn result_row(
                 cells.push(u8::from(limit).to_string());
                 cells.push(u8::from(caution).to_string());
                 // Which rules of the scenario's guideline set were crossed:
-                // their numbers (1-based, in the set's order), space-separated.
+                // their numbers (1-based, in the set's order), joined by `;`
+                // (`1;3`; empty when none), so the cell reads as one text.
                 let crossed: Vec<String> = traj
                     .limits
                     .rules()
@@ -134,7 +135,7 @@ pub fn result_row(
                     .filter(|(_, r)| traj.flags.iter().any(|f| f.rule == **r))
                     .map(|(i, _)| (i + 1).to_string())
                     .collect();
-                cells.push(crossed.join(" "));
+                cells.push(crossed.join(";"));
             }
             cells.push(if checks_balance(spec, member.index) {
                 format!("{:.3e}", traj.max_balance_residual())

@@ -77,7 +77,7 @@ impl Summary {
             .enumerate()
             .filter_map(|(i, h)| {
                 h.strip_prefix("band_na_")
-                    .and_then(|t| t.strip_suffix('h'))
+                    .and_then(|t| t.strip_suffix("h_mmol_l"))
                     .and_then(|t| t.parse().ok())
                     .map(|t| (t, i))
             })
@@ -163,7 +163,7 @@ impl Summary {
                 n_caution += 1;
             }
             if let Some(c) = by_rule {
-                for k in cells[c].split_whitespace() {
+                for k in cells[c].split(';').filter(|k| !k.is_empty()) {
                     let k: usize = k.parse().map_err(|_| {
                         bad(ResultProblem::NotRuleNumbers {
                             line: n + 2,
@@ -228,7 +228,7 @@ impl Summary {
             .collect();
         let mut sensitivity: Vec<(String, f64)> = sensitivity_by_output
             .iter()
-            .find(|(o, _)| o == "largest_rise_24h")
+            .find(|(o, _)| o == "largest_rise_24h_mmol_l")
             .map(|(_, by)| by.clone())
             .unwrap_or_default();
         sensitivity.sort_by(|a, b| b.1.abs().total_cmp(&a.1.abs()));

@@ -41,6 +41,16 @@ impl Output<SweepReport> for SweepCharts {
     }
 }
 
+/// The spacing of the band times, h (the spec's `band_every_h`): the chart
+/// joins them with straight lines, so its caption says how far apart they
+/// are (a peak between two band times is not drawn).
+fn band_step(summary: &Summary) -> f64 {
+    match summary.band_times_h.as_slice() {
+        [a, b, ..] => b - a,
+        _ => 0.0,
+    }
+}
+
 /// Serum sodium across the sweep: 5-95 and 25-75 % bands and the median.
 fn fan_chart(summary: &Summary) -> Result<String> {
     canvas((820, 460), |root| {
@@ -63,7 +73,10 @@ fn fan_chart(summary: &Summary) -> Result<String> {
             + 1.0;
         let mut chart = ChartBuilder::on(root)
             .caption(
-                "Serum sodium across the sweep (5-95 and 25-75 % bands, median)",
+                format!(
+                    "Serum sodium across the sweep (5-95 and 25-75 % bands, median; every {})",
+                    crate::format::hours_text(band_step(summary))
+                ),
                 ("sans-serif", 18),
             )
             .margin(14)
@@ -137,7 +150,27 @@ fn sensitivity_chart(summary: &Summary) -> Result<String> {
         bail!("no parameters to rank");
     }
     let n = summary.sensitivity.len();
-    canvas((820, (120 + 34 * n) as u32), |root| {
+    canvas((820, (150 + 34 * n) as u32), |root| {
+        // The colour key, under the chart.
+        let (_, h) = root.dim_in_pixel();
+        let key_y = h as i32 - 22;
+        let font = ("sans-serif", 12).into_font();
+        for (k, (color, text)) in [
+            (POSITIVE, "a larger value goes with a larger rise"),
+            (NEGATIVE, "a larger value goes with a smaller rise"),
+        ]
+        .into_iter()
+        .enumerate()
+        {
+            let x = 240 + 280 * k as i32;
+            root.draw(&Rectangle::new(
+                [(x, key_y - 6), (x + 14, key_y + 6)],
+                color.mix(0.8).filled(),
+            ))?;
+            root.draw(&Text::new(text, (x + 20, key_y - 6), font.clone()))?;
+        }
+        let (root, _) = root.split_vertically(h as i32 - 36);
+        let root = &root;
         let mut chart = ChartBuilder::on(root)
             .caption(
                 "What drives the largest 24 h rise (rank correlation)",
@@ -146,7 +179,8 @@ fn sensitivity_chart(summary: &Summary) -> Result<String> {
             .margin(14)
             .x_label_area_size(40)
             .y_label_area_size(230)
-            .build_cartesian_2d(-1.0..1.0, (0..n).into_segmented())?;
+            // n bars in n segments (0..n would make n + 1, the top one empty).
+            .build_cartesian_2d(-1.0..1.0, (0..n - 1).into_segmented())?;
         let names: Vec<String> = summary.sensitivity.iter().map(|(n, _)| n.clone()).collect();
         chart
             .configure_mesh()
@@ -194,9 +228,11 @@ fn sensitivity_matrix(summary: &Summary) -> Result<String> {
     if n_par == 0 {
         bail!("no parameters to rank");
     }
-    let (cell_w, cell_h, left, top) = (110i32, 34i32, 240i32, 70i32);
+    // Each column as wide as its output's name (about 7 px a character).
+    let longest = outputs.iter().map(|(n, _)| n.len()).max().unwrap_or(0) as i32;
+    let (cell_w, cell_h, left, top) = ((7 * longest + 12).clamp(110, 200), 34i32, 240i32, 70i32);
     let width = (left + cell_w * n_out as i32 + 20) as u32;
-    let height = (top + cell_h * n_par as i32 + 40) as u32;
+    let height = (top + cell_h * n_par as i32 + 90) as u32;
     canvas((width.max(520), height), |root| {
         root.draw(&Text::new(
             "What drives each output (rank correlation)",
@@ -224,6 +260,25 @@ fn sensitivity_matrix(summary: &Summary) -> Result<String> {
                 ))?;
             }
         }
+        // The colour bar: rank correlation from -1 to +1.
+        let bar_y = top + cell_h * n_par as i32 + 24;
+        let bar_w = 300i32;
+        for k in 0..bar_w {
+            let r = -1.0 + 2.0 * f64::from(k) / f64::from(bar_w - 1);
+            root.draw(&Rectangle::new(
+                [(left + k, bar_y), (left + k + 1, bar_y + 12)],
+                correlation_colour(r).filled(),
+            ))?;
+        }
+        root.draw(&Rectangle::new(
+            [(left, bar_y), (left + bar_w, bar_y + 12)],
+            BLACK.mix(0.4),
+        ))?;
+        for (r, text) in [(-1.0, "-1"), (0.0, "0"), (1.0, "+1")] {
+            let x = left + ((r + 1.0) / 2.0 * f64::from(bar_w - 1)) as i32;
+            root.draw(&Text::new(text, (x - 6, bar_y + 16), label.clone()))?;
+        }
+        root.draw(&Text::new("rank correlation", (14, bar_y), label.clone()))?;
         Ok(())
     })
 }

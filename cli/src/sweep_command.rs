@@ -111,7 +111,7 @@ fn lock_output(out: &Path) -> Result<std::fs::File> {
     match fs4::FileExt::try_lock(&file) {
         Ok(()) => Ok(file),
         Err(fs4::TryLockError::WouldBlock) => Err(anyhow::anyhow!(
-            "another tidewater sweep is writing {} (it holds {}): wait for it to end, or choose another --out",
+            "another tidewater sweep or merge is writing {} (it holds {}): wait for it to end, or choose another --out",
             out.display(),
             path.display()
         )),
@@ -235,6 +235,22 @@ fn run_members(
 /// Run `tidewater merge`.
 pub fn merge_command(args: MergeOptions) -> Result<()> {
     let inputs: Vec<&Path> = args.inputs.iter().map(|p| p.as_path()).collect();
+    // The merged file is written under the same lock as a sweep's; a shard
+    // a sweep is still writing (its lock held) is refused, not half read.
+    let _lock = lock_output(&args.out)?;
+    for input in &inputs {
+        let mut name = input.as_os_str().to_owned();
+        name.push(".lock");
+        if Path::new(&name).exists() {
+            let held = lock_output(input).map_err(|_| {
+                anyhow::anyhow!(
+                    "{}: a tidewater sweep is still writing this shard; merge it when the sweep has ended",
+                    input.display()
+                )
+            })?;
+            drop(held);
+        }
+    }
     let n = sweep::merge(&inputs, &args.out)?;
     eprintln!("merge: {n} members -> {}", args.out.display());
     if let Some(spec_path) = &args.spec {

@@ -61,10 +61,34 @@ fn a_second_sweep_into_the_same_file_is_refused_while_the_first_runs() {
     assert_eq!(second.status.code(), Some(2), "{stderr}");
     assert!(
         stderr.contains(&format!(
-            "another tidewater sweep is writing {}",
+            "another tidewater sweep or merge is writing {}",
             out.display()
         )),
         "{stderr}"
+    );
+    // A merge of the shard still being written is refused, and so is a
+    // merge into it.
+    let merge = |inputs: &[&Path], into: &Path| {
+        Command::new(env!("CARGO_BIN_EXE_tidewater"))
+            .arg("merge")
+            .args(inputs)
+            .arg("--out")
+            .arg(into)
+            .output()
+            .unwrap()
+    };
+    let merged = dir.join("merged.csv");
+    let m = merge(&[&out], &merged);
+    let err = String::from_utf8_lossy(&m.stderr);
+    assert_eq!(m.status.code(), Some(2), "{err}");
+    assert!(err.contains("still writing this shard"), "{err}");
+    assert!(!merged.exists());
+    let m = merge(&[&merged], &out);
+    let err = String::from_utf8_lossy(&m.stderr);
+    assert_eq!(m.status.code(), Some(2), "{err}");
+    assert!(
+        err.contains("another tidewater sweep or merge is writing"),
+        "{err}"
     );
     let first = first.wait_with_output().unwrap();
     assert!(

@@ -1,7 +1,7 @@
 //! The charts of a comparison: one line per scenario on shared axes.
 
 use super::Member;
-use crate::output::svg::frame::{canvas, err, free_corner, legend, padded, time_axes, Area, Size};
+use crate::output::svg::frame::{canvas, err, legend, legend_place, padded, time_axes, Area, Size};
 use crate::output::svg::{Chart, FONT, INK, WIDTH};
 use anyhow::Result;
 use plotters::prelude::*;
@@ -60,6 +60,17 @@ fn panel(
         });
     let x = 0.0..end.max(1e-3);
     let y = padded(lo, hi, 0.08, min_span);
+    let longest = members
+        .iter()
+        .map(|m| m.input.name.chars().count())
+        .max()
+        .unwrap_or(0);
+    let shares = (
+        ((40 + 7 * longest) as f64 / 820.0).min(0.6),
+        ((12 + 20 * members.len()) as f64 / 260.0).min(0.7),
+    );
+    let refs: Vec<&[(f64, f64)]> = data.iter().map(Vec::as_slice).collect();
+    let (corner, y) = legend_place(&refs, &x, y, shares, SeriesLabelPosition::LowerRight);
     let mut chart = time_axes(area, size, caption, x.clone(), y.clone(), y_desc)?;
     for (k, (points, m)) in data.iter().zip(members).enumerate() {
         let color = PALETTE[k];
@@ -74,17 +85,6 @@ fn panel(
                 PathElement::new(vec![(x, y), (x + 22, y)], color.stroke_width(2))
             });
     }
-    let longest = members
-        .iter()
-        .map(|m| m.input.name.chars().count())
-        .max()
-        .unwrap_or(0);
-    let shares = (
-        ((40 + 7 * longest) as f64 / 820.0).min(0.6),
-        ((12 + 20 * members.len()) as f64 / 260.0).min(0.7),
-    );
-    let refs: Vec<&[(f64, f64)]> = data.iter().map(Vec::as_slice).collect();
-    let corner = free_corner(&refs, &x, &y, shares, SeriesLabelPosition::LowerRight);
     legend(&mut chart, corner)
 }
 

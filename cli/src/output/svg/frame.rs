@@ -175,14 +175,15 @@ pub struct Line {
 /// The corner of a plot with the fewest data points under a legend box
 /// (`width` and `height` as shares of the plot), `preferred` first among
 /// equals, so that a legend sits in free space rather than on the data.
-/// A line between two points is counted by points along it.
-pub fn free_corner(
+/// A line between two points is counted by points along it. Returns the
+/// corner and the number of points left under the legend there.
+fn corner_and_count(
     lines: &[&[(f64, f64)]],
     x: &Range<f64>,
     y: &Range<f64>,
     (width, height): (f64, f64),
     preferred: SeriesLabelPosition,
-) -> SeriesLabelPosition {
+) -> (SeriesLabelPosition, usize) {
     use SeriesLabelPosition::*;
     let corners = [UpperRight, UpperLeft, LowerRight, LowerLeft];
     let inside = |c: &SeriesLabelPosition, (px, py): (f64, f64)| {
@@ -229,7 +230,25 @@ pub fn free_corner(
         .map(|c| (count(c), c))
         .filter(|(n, _)| *n < preferred_count)
         .min_by_key(|(n, _)| *n)
-        .map_or(preferred, |(_, c)| c.clone())
+        .map_or((preferred, preferred_count), |(n, c)| (c.clone(), n))
+}
+
+/// Where the legend goes and the y range to draw: a free corner when one
+/// is, else the upper right with the top of the axis raised so that the
+/// data stay below the legend (a legend never sits on the data).
+pub fn legend_place(
+    lines: &[&[(f64, f64)]],
+    x: &Range<f64>,
+    y: Range<f64>,
+    shares: (f64, f64),
+    preferred: SeriesLabelPosition,
+) -> (SeriesLabelPosition, Range<f64>) {
+    let (corner, n) = corner_and_count(lines, x, &y, shares, preferred);
+    if n == 0 {
+        return (corner, y);
+    }
+    let raised = y.start + (y.end - y.start) / (1.0 - shares.1 - 0.04).max(0.3);
+    (SeriesLabelPosition::UpperRight, y.start..raised)
 }
 
 /// One panel of line series over the run's time axis; `include_zero`
@@ -264,13 +283,13 @@ pub fn panel(
         y
     };
     let shares = legend_shares(&lines);
-    let legend_at = free_corner(
+    let (legend_at, y) = legend_place(
         &lines
             .iter()
             .map(|l| l.points.as_slice())
             .collect::<Vec<_>>(),
         &x_range(traj),
-        &y,
+        y,
         shares,
         legend_at,
     );
@@ -297,8 +316,9 @@ fn legend_shares(lines: &[Line]) -> (f64, f64) {
         .map(|l| l.name.chars().count())
         .max()
         .unwrap_or(0);
-    let width = (40.0 + 7.0 * longest as f64) / 820.0;
-    let height = (12.0 + 20.0 * lines.len() as f64) / 220.0;
+    // A tenth more than measured, to keep clear of the box's edge.
+    let width = 1.1 * (40.0 + 7.0 * longest as f64) / 820.0;
+    let height = 1.1 * (12.0 + 20.0 * lines.len() as f64) / 220.0;
     (width.min(0.6), height.min(0.6))
 }
 
@@ -328,15 +348,22 @@ mod tests {
         // upper right and lower left free: the preferred lower right is
         // taken only when free.
         let falling = [(0.0, 10.0), (10.0, 0.0)];
-        let c = free_corner(&[&falling], &x, &y, (0.3, 0.3), LowerRight);
+        let c = corner_and_count(&[&falling], &x, &y, (0.3, 0.3), LowerRight).0;
         assert!(matches!(c, UpperRight | LowerLeft), "{c:?}");
         // A line along the top: the preferred lower corner stays.
         let top = [(0.0, 9.5), (10.0, 9.5)];
-        let c = free_corner(&[&top], &x, &y, (0.3, 0.3), LowerRight);
+        let c = corner_and_count(&[&top], &x, &y, (0.3, 0.3), LowerRight).0;
         assert!(matches!(c, LowerRight), "{c:?}");
         // Rising to the upper right: the legend leaves that corner.
         let rising = [(0.0, 0.0), (10.0, 10.0)];
-        let c = free_corner(&[&rising], &x, &y, (0.3, 0.3), UpperRight);
+        let c = corner_and_count(&[&rising], &x, &y, (0.3, 0.3), UpperRight).0;
         assert!(matches!(c, UpperLeft | LowerRight), "{c:?}");
+        // A zigzag through every corner: no corner is free, so the axis
+        // is raised and the data stay below the legend's box.
+        let zigzag = [(0.0, 0.0), (1.0, 10.0), (9.0, 10.0), (10.0, 0.0)];
+        let (c, raised) = legend_place(&[&zigzag], &x, y.clone(), (0.3, 0.3), LowerRight);
+        assert!(matches!(c, UpperRight), "{c:?}");
+        let (_, n) = corner_and_count(&[&zigzag], &x, &raised, (0.3, 0.3), UpperRight);
+        assert_eq!(n, 0, "{raised:?}");
     }
 }

@@ -5,7 +5,7 @@
 //! judged.
 
 use super::frame::{
-    canvas, err, free_corner, legend, padded, picks, series, time_axes, x_range, Size,
+    canvas, err, legend, legend_place, padded, picks, series, time_axes, x_range, Size,
 };
 use super::{CEILING, FLAG, FONT, FORMULA, GOAL, PERMITTED, SODIUM, WIDTH};
 use crate::input::RunInput;
@@ -112,6 +112,41 @@ pub fn chart(input: &RunInput, summary: &Summary) -> Result<String> {
     let x = x_range(traj);
     let any_ceiling = ceiling.iter().any(|b| b.is_finite());
     let any_floor = floor.iter().any(|b| b.is_finite());
+    let picks_idx = picks(times.len());
+
+    // The legend in the corner the sodium, formula and bound lines leave
+    // free, or above them (its entries of up to about 45 characters, 20 px
+    // each, on a plot about 820 x 330 px).
+    let (corner, y) = {
+        let clamp = |b: f64| b.clamp(y.start, y.end);
+        let bound_points = |bound: &[f64]| -> Vec<(f64, f64)> {
+            picks_idx
+                .iter()
+                .filter(|&&j| bound[j].is_finite())
+                .map(|&j| (times[j], clamp(bound[j])))
+                .collect()
+        };
+        let (ceiling_points, floor_points) = (bound_points(&ceiling), bound_points(&floor));
+        let formula_points: Vec<(f64, f64)> =
+            picks_idx.iter().map(|&j| (times[j], formula[j])).collect();
+        let entries = 2
+            + usize::from(any_ceiling || any_floor)
+            + usize::from(any_ceiling)
+            + usize::from(any_floor)
+            + usize::from(!traj.flags.is_empty())
+            + usize::from(
+                traj.goals
+                    .iter()
+                    .any(|g| g.status != GoalStatus::RunTooShort),
+            );
+        legend_place(
+            &[&na, &formula_points, &ceiling_points, &floor_points],
+            &x,
+            y,
+            (0.45, 1.1 * (12.0 + 20.0 * entries as f64) / 330.0),
+            SeriesLabelPosition::LowerRight,
+        )
+    };
 
     canvas((WIDTH, 460), |root| {
         let mut chart = time_axes(
@@ -126,7 +161,6 @@ pub fn chart(input: &RunInput, summary: &Summary) -> Result<String> {
         // Permitted region: between the floor and the ceiling (the axis
         // edge where a side has no rule).
         let clamp = |b: f64| b.clamp(y.start, y.end);
-        let picks_idx = picks(times.len());
         let mut polygon: Vec<(f64, f64)> = picks_idx
             .iter()
             .map(|&j| (times[j], clamp(ceiling[j])))
@@ -281,26 +315,6 @@ pub fn chart(input: &RunInput, summary: &Summary) -> Result<String> {
                 first = false;
             }
         }
-        // The legend in the corner the sodium, formula and bound lines
-        // leave free (up to six entries of about 40 characters, on a plot
-        // about 820 x 330 px).
-        let bound_points = |bound: &[f64]| -> Vec<(f64, f64)> {
-            picks_idx
-                .iter()
-                .filter(|&&j| bound[j].is_finite())
-                .map(|&j| (times[j], clamp(bound[j])))
-                .collect()
-        };
-        let (ceiling_points, floor_points) = (bound_points(&ceiling), bound_points(&floor));
-        let formula_points: Vec<(f64, f64)> =
-            picks_idx.iter().map(|&j| (times[j], formula[j])).collect();
-        let corner = free_corner(
-            &[&na, &formula_points, &ceiling_points, &floor_points],
-            &x,
-            &y,
-            (0.42, 0.4),
-            SeriesLabelPosition::LowerRight,
-        );
         legend(&mut chart, corner)
     })
 }

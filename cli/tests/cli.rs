@@ -522,6 +522,21 @@ fn strict_turns_a_crossed_limit_into_exit_one() {
     );
 }
 
+/// Write `script_text` to `root/name` and run it into `root/out`: the
+/// command's output and the report folder.
+fn run_script_text(root: &Path, name: &str, script_text: &str) -> (Output, std::path::PathBuf) {
+    let script = root.join(name);
+    std::fs::write(&script, script_text).unwrap();
+    let dir = root.join("out");
+    let out = tidewater(&[
+        "run",
+        script.to_str().unwrap(),
+        "--out",
+        dir.to_str().unwrap(),
+    ]);
+    (out, dir)
+}
+
 #[test]
 fn control_bytes_from_a_script_are_escaped_on_the_terminal() {
     // A fluid id holding an escape sequence (ESC [31m) and a title with a
@@ -539,18 +554,11 @@ fn control_bytes_from_a_script_are_escaped_on_the_terminal() {
     assert!(err.contains("unknown fluid \"sal\\u{1b}[31mine\""), "{err}");
     assert!(!err.contains('\u{1b}'), "{err}");
 
-    std::fs::write(
-        &script,
+    let (out, _) = run_script_text(
+        root.path(),
+        "ring.rhai",
         "title(\"ring\\x07\");\npatient(#{ sex: \"female\", age_years: 58, weight_kg: 66, na: 140 });\nrun_for(hours(1));\n",
-    )
-    .unwrap();
-    let dir = root.path().join("out");
-    let out = tidewater(&[
-        "run",
-        script.to_str().unwrap(),
-        "--out",
-        dir.to_str().unwrap(),
-    ]);
+    );
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
     let err = text(&out.stderr);
     assert!(
@@ -564,19 +572,11 @@ fn leaving_the_models_range_is_warned_with_its_time() {
     // 20 L of 5 % saline in 1 h drives serum sodium far above anything the
     // model was built for (95-190 mmol/L): the run ends, with a warning.
     let root = tempfile::tempdir().unwrap();
-    let script = root.path().join("salt.rhai");
-    std::fs::write(
-        &script,
+    let (out, dir) = run_script_text(
+        root.path(),
+        "salt.rhai",
         "patient(#{ sex: \"female\", age_years: 58, weight_kg: 66, na: 140 });\nrun_for(hours(3));\nat(hours(0), infuse(\"saline_5\", litres(20), hours(1)));\n",
-    )
-    .unwrap();
-    let dir = root.path().join("out");
-    let out = tidewater(&[
-        "run",
-        script.to_str().unwrap(),
-        "--out",
-        dir.to_str().unwrap(),
-    ]);
+    );
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
     let err = text(&out.stderr);
     assert!(

@@ -106,6 +106,24 @@ pub fn run(opts: RunOptions, style: Style) -> Result<bool> {
                 ))
             );
         }
+        // What each fluid gave in all (the habitual intake aside).
+        for g in s.given.iter().filter(|g| g.stream != "habitual") {
+            if g.volume_in_ml > 0.0 {
+                eprintln!(
+                    "given: {} mL of {} ({} mmol of sodium)",
+                    fixed(g.volume_in_ml, 0),
+                    terminal_safe(&g.stream),
+                    fixed(g.na_in_mmol, 1)
+                );
+            } else if g.volume_out_ml > 0.0 {
+                eprintln!(
+                    "removed: {} mL by {} ({} mmol of sodium)",
+                    fixed(g.volume_out_ml, 0),
+                    terminal_safe(&g.stream),
+                    fixed(g.na_out_mmol, 1)
+                );
+            }
+        }
         if let Some(w) = &s.outside_model_range {
             eprintln!(
                 "{}",

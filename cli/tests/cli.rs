@@ -343,6 +343,18 @@ fn compare_lays_scenarios_side_by_side_and_refuses_bad_input_whole() {
     let summary: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(out_dir.join("summary.json")).unwrap())
             .unwrap();
+    // A run states what it gave: 300 mL of 3 % saline, 153.9 mmol of sodium.
+    let run = tidewater(&[
+        "run",
+        &b,
+        "--out",
+        root.path().join("run_b").to_str().unwrap(),
+    ]);
+    assert!(
+        text(&run.stderr).contains("given: 300 mL of saline_3 (153.9 mmol of sodium)"),
+        "{}",
+        text(&run.stderr)
+    );
     let s = summary["scenarios"].as_array().unwrap();
     assert_eq!(s.len(), 2);
     // 3 % saline carries 513 mmol/L (fluid table): 100 and 300 mL.

@@ -483,13 +483,8 @@ pub fn check_out_dir(path: &Path) -> Result<()> {
 
 /// `tidewater compare`: run each script and write the side-by-side report.
 pub fn compare(args: crate::cli::CompareArgs) -> Result<()> {
-    use crate::output::compare::{Comparison, MAX_SCENARIOS};
-    if args.scripts.len() > MAX_SCENARIOS {
-        anyhow::bail!(
-            "compare takes at most {MAX_SCENARIOS} scenarios ({} given): beyond that the lines of a chart can no longer be told apart",
-            args.scripts.len()
-        );
-    }
+    use crate::output::compare::{check_count, Comparison};
+    check_count(args.scripts.len())?;
     let mut inputs = Vec::with_capacity(args.scripts.len());
     for path in &args.scripts {
         inputs.push(input::load_script(path)?);

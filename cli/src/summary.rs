@@ -328,7 +328,10 @@ impl Summary {
         let traj = &input.trajectory;
         let first = &traj.samples[0];
         let last = traj.last();
+        // The first sample holding the lowest and the highest sodium, and
+        // the same for the brain-cell volume index, in one pass.
         let (mut min, mut max) = (first, first);
+        let (mut lowest, mut highest) = (first, first);
         for s in &traj.samples {
             if s.obs.na_mmol_l < min.obs.na_mmol_l {
                 min = s;
@@ -336,18 +339,13 @@ impl Summary {
             if s.obs.na_mmol_l > max.obs.na_mmol_l {
                 max = s;
             }
+            if s.obs.brain_volume_index < lowest.obs.brain_volume_index {
+                lowest = s;
+            }
+            if s.obs.brain_volume_index > highest.obs.brain_volume_index {
+                highest = s;
+            }
         }
-        let brain = |s: &&tidewater::Sample| s.obs.brain_volume_index;
-        let lowest = traj
-            .samples
-            .iter()
-            .min_by(|a, b| brain(a).total_cmp(&brain(b)))
-            .unwrap_or(first);
-        let highest = traj
-            .samples
-            .iter()
-            .max_by(|a, b| brain(a).total_cmp(&brain(b)))
-            .unwrap_or(first);
         let (r24, t24) = traj.largest_rise(24.0);
         let (r48, t48) = traj.largest_rise(48.0);
         Summary {

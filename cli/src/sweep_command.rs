@@ -99,9 +99,7 @@ pub fn sweep_command(args: SweepOptions, style: Style) -> Result<bool> {
 /// file itself stays: removing it would let a later run lock a new file
 /// while a waiting one holds the old.
 fn lock_output(out: &Path) -> Result<std::fs::File> {
-    let mut name = out.as_os_str().to_owned();
-    name.push(".lock");
-    let path = PathBuf::from(name);
+    let path = lock_path(out);
     let file = std::fs::OpenOptions::new()
         .create(true)
         .truncate(false)
@@ -119,6 +117,13 @@ fn lock_output(out: &Path) -> Result<std::fs::File> {
             Err(anyhow::anyhow!("cannot lock {}: {e}", path.display()))
         }
     }
+}
+
+/// The lock file of the result file `out`: `<out>.lock`.
+fn lock_path(out: &Path) -> PathBuf {
+    let mut name = out.as_os_str().to_owned();
+    name.push(".lock");
+    PathBuf::from(name)
 }
 
 /// Tell on stderr how many members of the result file `out` failed and
@@ -239,9 +244,7 @@ pub fn merge_command(args: MergeOptions) -> Result<()> {
     // a sweep is still writing (its lock held) is refused, not half read.
     let _lock = lock_output(&args.out)?;
     for input in &inputs {
-        let mut name = input.as_os_str().to_owned();
-        name.push(".lock");
-        if Path::new(&name).exists() {
+        if lock_path(input).exists() {
             let held = lock_output(input).map_err(|_| {
                 anyhow::anyhow!(
                     "{}: a tidewater sweep is still writing this shard; merge it when the sweep has ended",

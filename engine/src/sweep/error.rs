@@ -305,6 +305,18 @@ impl SweepError {
         }
     }
 
+    /// A spec error placed at its field's line and column in the spec's
+    /// `text` (other errors are returned as they are).
+    pub(super) fn located(mut self, text: &str) -> Self {
+        if let SweepError::Spec {
+            location, field, ..
+        } = &mut self
+        {
+            *location = super::locate::field_position(text, field);
+        }
+        self
+    }
+
     /// A problem with the result file (or shard) `file`.
     pub(super) fn results(file: &str, problem: ResultProblem) -> Self {
         SweepError::Results {

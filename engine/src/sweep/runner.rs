@@ -104,21 +104,16 @@ pub fn check_script_settings(
         if read.iter().any(|r| r == name) || scenario.source().contains(&format!("\"{name}\"")) {
             continue;
         }
-        let field = format!("parameters[{i}].name");
-        let location = super::locate::field_position(text, &field);
-        let mut e = SweepError::spec(
+        return Err(SweepError::spec(
             file,
-            field,
+            format!("parameters[{i}].name"),
             super::error::SpecProblem::UnreadSetting {
                 name: p.name.clone(),
                 suggestion: crate::suggest::closest(name, read.iter().map(|r| r.as_str())),
                 read: read.clone(),
             },
-        );
-        if let SweepError::Spec { location: at, .. } = &mut e {
-            *at = location;
-        }
-        return Err(e);
+        )
+        .located(text));
     }
     Ok(())
 }

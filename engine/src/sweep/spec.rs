@@ -247,15 +247,7 @@ impl SweepSpec {
             location: e.location,
             message: e.message,
         })?;
-        spec.check(file).map_err(|mut e| {
-            if let SweepError::Spec {
-                location, field, ..
-            } = &mut e
-            {
-                *location = super::locate::field_position(text, field);
-            }
-            e
-        })?;
+        spec.check(file).map_err(|e| e.located(text))?;
         Ok(spec)
     }
 

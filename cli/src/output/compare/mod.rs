@@ -19,6 +19,17 @@ use std::path::Path;
 /// can no longer be told apart.
 pub const MAX_SCENARIOS: usize = 8;
 
+/// Refuse a comparison of fewer than 2 or more than [`MAX_SCENARIOS`]
+/// scenarios (checked before any is run, and again by [`Comparison::new`]).
+pub fn check_count(n: usize) -> Result<()> {
+    if !(2..=MAX_SCENARIOS).contains(&n) {
+        anyhow::bail!(
+            "compare takes 2 to {MAX_SCENARIOS} scenarios ({n} given): beyond {MAX_SCENARIOS} the lines of a chart can no longer be told apart"
+        );
+    }
+    Ok(())
+}
+
 /// One scenario of a comparison: its run and its summary.
 pub struct Member {
     /// The run.
@@ -102,12 +113,7 @@ impl Headline {
 impl Comparison {
     /// Summarise each run and draw the shared charts.
     pub fn new(inputs: Vec<RunInput>) -> Result<Self> {
-        if inputs.len() < 2 || inputs.len() > MAX_SCENARIOS {
-            anyhow::bail!(
-                "compare takes 2 to {MAX_SCENARIOS} scenarios, not {}",
-                inputs.len()
-            );
-        }
+        check_count(inputs.len())?;
         let members: Vec<Member> = inputs
             .into_iter()
             .map(|input| Member {

@@ -293,7 +293,7 @@ pub fn render(report: &Report) -> String {
         let _ = write!(
             out,
             "<tr><td class=\"num\">{}</td><td>{}</td></tr>\n",
-            crate::format::hours_text(e.time_h),
+            hours_text(e.time_h),
             escape(&e.text)
         );
     }

@@ -1,14 +1,16 @@
 //! Causes of hyponatremia behave as their physiology says (common practice
 //! unless noted).
 
+use tidewater::Sex;
+
 use tidewater::{Patient, Plan, Simulation};
 use tidewater_checks::*;
 
 fn patient(na: f64, cause: &str) -> Patient {
     Patient {
         na: Some(na),
-        cause: Some(cause.into()),
-        ..Patient::healthy("male", 45.0, 75.0)
+        cause: Some(cause.parse().expect("a cause")),
+        ..Patient::healthy(Sex::Male, 45.0, 75.0)
     }
 }
 
@@ -47,8 +49,15 @@ fn every_cause_starts_steady_or_explains_why_not() {
 
 #[test]
 fn unknown_cause_is_a_named_error() {
-    let err = Simulation::new(Plan::new(patient(128.0, "bad_luck"))).expect_err("an error");
-    assert!(err.to_string().contains("cause"), "{err}");
+    // The word is refused where it is read, naming the field and the causes.
+    let err = "bad_luck"
+        .parse::<tidewater::Cause>()
+        .expect_err("an error");
+    assert_eq!(err.field(), "cause");
+    assert!(
+        err.to_string().contains("inappropriate_antidiuresis"),
+        "{err}"
+    );
 }
 
 #[test]

@@ -4,12 +4,14 @@
 //! dextrose, once its glucose is metabolised, distributes like water (about
 //! 7–10 % in plasma, two thirds in cells).
 
+use tidewater::Sex;
+
 use tidewater::{Patient, Plan};
 use tidewater_checks::*;
 
 #[test]
 fn m4_isotonic_saline_stays_one_quarter_intravascular() {
-    let plan = Plan::new(Patient::healthy("male", 40.0, 70.0))
+    let plan = Plan::new(Patient::healthy(Sex::Male, 40.0, 70.0))
         .closed_system()
         .run_for(6.0)
         .start(0.0, give("saline_0_9", 1.0, 0.5));
@@ -34,7 +36,7 @@ fn m4_isotonic_saline_stays_one_quarter_intravascular() {
 
 #[test]
 fn m5_dextrose_distributes_like_water() {
-    let plan = Plan::new(Patient::healthy("male", 40.0, 70.0))
+    let plan = Plan::new(Patient::healthy(Sex::Male, 40.0, 70.0))
         .closed_system()
         .run_for(12.0)
         .start(0.0, give("dextrose_5", 1.0, 1.0));
@@ -68,7 +70,7 @@ fn m5_dextrose_distributes_like_water() {
 #[test]
 fn a_body_water_fraction_override_sizes_the_compartments() {
     let sim = |fraction: Option<f64>| {
-        let mut plan = Plan::new(Patient::healthy("female", 50.0, 60.0)).run_for(1.0);
+        let mut plan = Plan::new(Patient::healthy(Sex::Female, 50.0, 60.0)).run_for(1.0);
         if let Some(f) = fraction {
             plan = plan.set_param("tbw_fraction_woman", f).unwrap();
         }
@@ -76,7 +78,7 @@ fn a_body_water_fraction_override_sizes_the_compartments() {
     };
     assert!((sim(None).patient().total_water_l - 30.0).abs() < 1e-9);
     assert!((sim(Some(0.45)).patient().total_water_l - 27.0).abs() < 1e-9);
-    let traj = run(Plan::new(Patient::healthy("female", 50.0, 60.0))
+    let traj = run(Plan::new(Patient::healthy(Sex::Female, 50.0, 60.0))
         .run_for(1.0)
         .set_param("tbw_fraction_woman", 0.45)
         .unwrap());

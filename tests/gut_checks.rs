@@ -5,6 +5,8 @@
 //! 5 min, absorption half-life ~11-13 min, absorption complete within
 //! ~75-120 min (abstract read; journal details from memory).
 
+use tidewater::Sex;
+
 use tidewater::{Patient, Plan, Stream};
 use tidewater_checks::*;
 
@@ -16,7 +18,7 @@ fn closed_woman() -> Plan {
     // A closed system isolates absorption from excretion.
     Plan::new(Patient {
         na: Some(140.0),
-        ..Patient::healthy("female", 30.0, 60.0)
+        ..Patient::healthy(Sex::Female, 30.0, 60.0)
     })
     .closed_system()
     .sample_every(1.0 / 60.0)

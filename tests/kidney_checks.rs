@@ -2,6 +2,8 @@
 //! F11 at steady state, plus a water load, a desmopressin clamp and brain
 //! adaptation). Each check names its source.
 
+use tidewater::{Cause, Onset, Sex};
+
 use tidewater::body::S;
 use tidewater::physiology::osmoregulation;
 use tidewater::{formulas, Action, FluidLibrary, Patient, Plan, Route, Simulation, Stream};
@@ -23,7 +25,7 @@ fn m10_osmotic_vasopressin_follows_baylis_and_robertson() {
             .set_param("avp_threshold_spread_mosm_kg", 0.0)
             .unwrap()
     };
-    let sim = Simulation::new(mean_threshold(Patient::healthy("male", 40.0, 70.0))).unwrap();
+    let sim = Simulation::new(mean_threshold(Patient::healthy(Sex::Male, 40.0, 70.0))).unwrap();
     let obs = sim
         .model()
         .observe(&sim.initial().y, &sim.model().habitual_inputs());
@@ -36,7 +38,7 @@ fn m10_osmotic_vasopressin_follows_baylis_and_robertson() {
     // P_osm 300 (Na 145).
     let p = Patient {
         na: Some(145.0),
-        ..Patient::healthy("male", 40.0, 70.0)
+        ..Patient::healthy(Sex::Male, 40.0, 70.0)
     };
     let sim = Simulation::new(mean_threshold(p)).unwrap();
     let obs = sim
@@ -55,7 +57,7 @@ fn m10_osmotic_vasopressin_follows_baylis_and_robertson() {
 fn solute_patient(na: f64, na_day: f64, k_day: f64, urea_day: f64, avp_floor: f64) -> Plan {
     let p = Patient {
         na: Some(na),
-        ..Patient::healthy("male", 25.0, 70.0)
+        ..Patient::healthy(Sex::Male, 25.0, 70.0)
     };
     // The threshold is held at the published mean and the water intake is
     // whatever balances this textbook solute load (up to 30 L/day).
@@ -105,7 +107,7 @@ fn healthy_adult_excretes_most_of_a_litre_of_water_within_four_hours() {
     // rate.
     let p = Patient {
         na: Some(138.0),
-        ..Patient::healthy("male", 30.0, 70.0)
+        ..Patient::healthy(Sex::Male, 30.0, 70.0)
     };
     let traj = run(Plan::new(p)
         .run_for(8.0)
@@ -135,8 +137,8 @@ fn m7_isotonic_saline_lowers_sodium_in_unsuppressible_antidiuresis() {
     // concentrated urine and part of the water stays, so sodium falls.
     let p = Patient {
         na: Some(126.0),
-        cause: Some("inappropriate_antidiuresis".into()),
-        ..Patient::healthy("female", 30.0, 60.0)
+        cause: Some(Cause::InappropriateAntidiuresis),
+        ..Patient::healthy(Sex::Female, 30.0, 60.0)
     };
     let plan = Plan::new(p)
         .run_for(24.0)
@@ -155,9 +157,9 @@ fn hypovolemic_plan(desmopressin: bool) -> Plan {
     let lib = FluidLibrary::bundled();
     let p = Patient {
         na: Some(116.0),
-        onset: Some("chronic".into()),
-        cause: Some("hypovolemic".into()),
-        ..Patient::healthy("female", 68.0, 60.0)
+        onset: Some(Onset::Chronic),
+        cause: Some(Cause::Hypovolemic),
+        ..Patient::healthy(Sex::Female, 68.0, 60.0)
     };
     let saline = lib.get("saline_0_9").unwrap();
     let mut plan = Plan::new(p)
@@ -219,9 +221,9 @@ fn desmopressin_clamp_prevents_the_overcorrection() {
 fn brain_after_correction(target: f64) -> (f64, f64) {
     let p = Patient {
         na: Some(115.0),
-        onset: Some("chronic".into()),
-        cause: Some("inappropriate_antidiuresis".into()),
-        ..Patient::healthy("female", 55.0, 60.0)
+        onset: Some(Onset::Chronic),
+        cause: Some(Cause::InappropriateAntidiuresis),
+        ..Patient::healthy(Sex::Female, 55.0, 60.0)
     };
     let tbw = Simulation::new(Plan::new(p.clone()))
         .unwrap()
@@ -264,11 +266,11 @@ fn acute_hyponatremia_swells_brain_cells_and_chronic_does_not() {
     // cells are swollen in proportion to the fall of tonicity.
     let acute = Patient {
         na: Some(120.0),
-        onset: Some("acute".into()),
-        ..Patient::healthy("male", 30.0, 70.0)
+        onset: Some(Onset::Acute),
+        ..Patient::healthy(Sex::Male, 30.0, 70.0)
     };
     let chronic = Patient {
-        onset: Some("chronic".into()),
+        onset: Some(Onset::Chronic),
         ..acute.clone()
     };
     let obs = |p: Patient| {
@@ -288,8 +290,8 @@ fn v2_antagonist_and_loop_diuretic_act_as_expected() {
     // urine near-isotonic and raises sodium excretion.
     let p = Patient {
         na: Some(125.0),
-        cause: Some("inappropriate_antidiuresis".into()),
-        ..Patient::healthy("male", 50.0, 80.0)
+        cause: Some(Cause::InappropriateAntidiuresis),
+        ..Patient::healthy(Sex::Male, 50.0, 80.0)
     };
     let traj = run(Plan::new(p.clone())
         .run_for(24.0)
@@ -339,7 +341,7 @@ fn thirst_defends_against_water_deprivation() {
     // it osmolality keeps rising.
     let sweat = FluidLibrary::bundled().get("sweat").unwrap().clone();
     let plan = |thirst: f64| {
-        Plan::new(Patient::healthy("male", 40.0, 70.0))
+        Plan::new(Patient::healthy(Sex::Male, 40.0, 70.0))
             .run_for(48.0)
             .at(0.0, Action::Stop("habitual".into()))
             .start(0.0, Stream::lose(&sweat, 3.0, 12.0).unwrap())

@@ -2,6 +2,8 @@
 //! solute balance to 1e-6 relative at every sample, whatever the scenario:
 //! body content now = initial + intake − losses.
 
+use tidewater::{Cause, Sex};
+
 use tidewater::{Action, FluidLibrary, Patient, Plan, Stream};
 use tidewater_checks::*;
 
@@ -10,11 +12,11 @@ fn m9_busy_scenario_with_kidneys_balances_at_every_sample() {
     let lib = FluidLibrary::bundled();
     let patient = Patient {
         na: Some(124.0),
-        cause: Some("inappropriate_antidiuresis".into()),
+        cause: Some(Cause::InappropriateAntidiuresis),
         k: Some(3.1),
         glucose_mmol_l: Some(9.0),
         albumin_g_l: Some(30.0),
-        ..Patient::healthy("female", 72.0, 61.0)
+        ..Patient::healthy(Sex::Female, 72.0, 61.0)
     };
     let plan = Plan::new(patient)
         .run_for(36.0)
@@ -45,7 +47,7 @@ fn m9_busy_scenario_with_kidneys_balances_at_every_sample() {
 
 #[test]
 fn m9_closed_system_balances_after_a_loss_of_blood() {
-    let plan = Plan::new(Patient::healthy("male", 30.0, 80.0))
+    let plan = Plan::new(Patient::healthy(Sex::Male, 30.0, 80.0))
         .closed_system()
         .run_for(12.0)
         .start(0.0, Stream::bleed(1.0, 1.0).unwrap())

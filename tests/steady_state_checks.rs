@@ -2,6 +2,8 @@
 //! beyond habitual intake stays at steady state for 72 h, with filtration
 //! equal to lymph flow at 2–3 L/day (Guyton & Hall textbook lymph flow).
 
+use tidewater::Sex;
+
 use tidewater::{Patient, Plan, Switches, N_STATES_BODY};
 use tidewater_checks::*;
 
@@ -35,11 +37,14 @@ fn check_steady(patient: Patient, switches: Switches) {
 
 #[test]
 fn m6_healthy_adult_with_kidneys_is_steady_for_72_h() {
-    check_steady(Patient::healthy("male", 40.0, 70.0), Switches::default());
-    check_steady(Patient::healthy("female", 70.0, 58.0), Switches::default());
+    check_steady(Patient::healthy(Sex::Male, 40.0, 70.0), Switches::default());
+    check_steady(
+        Patient::healthy(Sex::Female, 70.0, 58.0),
+        Switches::default(),
+    );
 }
 
 #[test]
 fn m6_closed_system_is_steady_for_72_h() {
-    check_steady(Patient::healthy("male", 25.0, 90.0), Switches::closed());
+    check_steady(Patient::healthy(Sex::Male, 25.0, 90.0), Switches::closed());
 }

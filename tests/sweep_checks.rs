@@ -2,6 +2,8 @@
 //! unsharded result, resuming after an interruption, failures recorded,
 //! summaries and sensitivity.
 
+use tidewater::{Cause, Sex};
+
 use std::path::PathBuf;
 use tidewater::sweep::{self, PlanRunner, Shard, Summary, SweepSpec};
 use tidewater::{Action, Patient, Plan};
@@ -12,8 +14,8 @@ fn base_plan() -> Plan {
     // saline (the overcorrection case), 24 h.
     let p = Patient {
         na: Some(118.0),
-        cause: Some("hypovolemic".into()),
-        ..Patient::healthy("female", 60.0, 60.0)
+        cause: Some(Cause::Hypovolemic),
+        ..Patient::healthy(Sex::Female, 60.0, 60.0)
     };
     Plan::new(p)
         .run_for(24.0)

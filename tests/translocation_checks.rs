@@ -3,13 +3,15 @@
 //! lowers serum sodium by 1.6–2.4 mmol/L per 100 mg/dL of glucose (Katz,
 //! NEJM 1973: 1.6; Hillier et al., Am J Med 1999: 2.4).
 
+use tidewater::Sex;
+
 use tidewater::trajectory::interpolate;
 use tidewater::{units, Patient, Plan};
 use tidewater_checks::*;
 
 #[test]
 fn m3_translocational_fall_of_sodium() {
-    let mut plan = Plan::new(Patient::healthy("male", 45.0, 75.0))
+    let mut plan = Plan::new(Patient::healthy(Sex::Male, 45.0, 75.0))
         .closed_system()
         .run_for(12.0);
     plan.params.set("insulin_activity", 0.0).unwrap();

@@ -195,7 +195,7 @@ pub struct PatientArgs {
     pub file: Option<PathBuf>,
     /// Sex: male or female.
     #[arg(long, required_unless_present = "file")]
-    pub sex: Option<String>,
+    pub sex: Option<tidewater::Sex>,
     /// Age, years.
     #[arg(long, required_unless_present = "file")]
     pub age: Option<f64>,
@@ -225,20 +225,20 @@ pub struct PatientArgs {
     pub hematocrit: Option<f64>,
     /// Onset: acute or chronic.
     #[arg(long)]
-    pub onset: Option<String>,
+    pub onset: Option<tidewater::Onset>,
     /// Symptoms at the start: none, moderate or severe (decides which
     /// guideline goals apply).
     #[arg(long)]
-    pub symptoms: Option<String>,
+    pub symptoms: Option<tidewater::Symptoms>,
     /// Cause of the disorder: none, hypovolemic, inappropriate_antidiuresis
     /// (also SIAD or SIADH), reset_osmostat, low_solute_intake,
     /// primary_polydipsia, diuretic_induced, insulin_deficiency,
     /// inadequate_water_intake (scenarios/README.md describes each).
     #[arg(long)]
-    pub cause: Option<String>,
+    pub cause: Option<tidewater::Cause>,
     /// Total body water method: fraction or watson.
     #[arg(long)]
-    pub water_method: Option<String>,
+    pub water_method: Option<tidewater::WaterMethod>,
     /// Print JSON instead of a table.
     #[arg(long)]
     pub json: bool,

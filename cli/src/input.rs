@@ -221,17 +221,6 @@ fn capitalise(word: &str) -> String {
     }
 }
 
-fn snake(debug: &str) -> String {
-    let mut out = String::new();
-    for (i, c) in debug.chars().enumerate() {
-        if c.is_ascii_uppercase() && i > 0 {
-            out.push('_');
-        }
-        out.push(c.to_ascii_lowercase());
-    }
-    out
-}
-
 /// The start's balance as `summary.json` carries it.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct StartSummary {
@@ -269,7 +258,7 @@ pub fn patient_rows(sim: &Simulation) -> Vec<Row> {
     let y = &sim.initial().y;
     let obs = sim.model().observe(y, &tidewater::Inputs::default());
     let mut rows = vec![
-        row("Sex", snake(&format!("{:?}", p.sex))),
+        row("Sex", p.sex.to_string()),
         row("Age", format!("{} years", fixed(p.age_years, 0))),
         row("Weight", format!("{} kg", fixed(p.weight_kg, 1))),
     ];
@@ -277,9 +266,9 @@ pub fn patient_rows(sim: &Simulation) -> Vec<Row> {
         rows.push(row("Height", format!("{} cm", fixed(h, 0))));
     }
     rows.extend([
-        row("Onset", snake(&format!("{:?}", p.onset))),
-        row("Symptoms", snake(&format!("{:?}", p.symptoms))),
-        row("Cause", snake(&format!("{:?}", p.cause))),
+        row("Onset", p.onset.to_string()),
+        row("Symptoms", p.symptoms.to_string()),
+        row("Cause", p.cause.to_string()),
         row("Serum sodium", format!("{} mmol/L", fixed(p.na, 1))),
         row("Serum potassium", format!("{} mmol/L", fixed(p.k, 1))),
         row("Glucose", format!("{} mmol/L", fixed(p.glucose_mmol_l, 1))),

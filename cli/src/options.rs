@@ -242,7 +242,7 @@ impl PatientOptions {
         let source = match a.file {
             Some(path) => PatientSource::File(path),
             None => {
-                let (Some(sex), Some(age), Some(weight)) = (&a.sex, a.age, a.weight) else {
+                let (Some(sex), Some(age), Some(weight)) = (a.sex, a.age, a.weight) else {
                     anyhow::bail!("--sex, --age and --weight are required without --file");
                 };
                 PatientSource::Flags(Box::new(Patient {

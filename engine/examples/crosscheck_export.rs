@@ -16,6 +16,8 @@
 //! The patients are invented. Caution: Tidewater is a simulation for
 //! planning and teaching, not a medical device.
 
+use tidewater::{Cause, Onset, Sex};
+
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
@@ -47,8 +49,8 @@ fn build_plan(name: &str) -> Result<Plan, BoxError> {
         "closed_hypertonic" => {
             let patient = Patient {
                 na: Some(124.0),
-                onset: Some("acute".into()),
-                ..Patient::healthy("female", 41.0, 68.0)
+                onset: Some(Onset::Acute),
+                ..Patient::healthy(Sex::Female, 41.0, 68.0)
             };
             Plan::new(patient)
                 .closed_system()
@@ -61,9 +63,9 @@ fn build_plan(name: &str) -> Result<Plan, BoxError> {
             let patient = Patient {
                 na: Some(121.0),
                 k: Some(3.6),
-                onset: Some("chronic".into()),
-                cause: Some("inappropriate_antidiuresis".into()),
-                ..Patient::healthy("male", 67.0, 74.0)
+                onset: Some(Onset::Chronic),
+                cause: Some(Cause::InappropriateAntidiuresis),
+                ..Patient::healthy(Sex::Male, 67.0, 74.0)
             };
             let params = tidewater::Params::default();
             Plan::new(patient)
@@ -89,9 +91,9 @@ fn build_plan(name: &str) -> Result<Plan, BoxError> {
                 na: Some(157.0),
                 glucose_mmol_l: Some(6.5),
                 urea_mmol_l: Some(11.0),
-                onset: Some("chronic".into()),
-                cause: Some("inadequate_water_intake".into()),
-                ..Patient::healthy("male", 84.0, 61.0)
+                onset: Some(Onset::Chronic),
+                cause: Some(Cause::InadequateWaterIntake),
+                ..Patient::healthy(Sex::Male, 84.0, 61.0)
             };
             Plan::new(patient)
                 .set_param("thirst_enabled", 1.0)?
@@ -105,7 +107,7 @@ fn build_plan(name: &str) -> Result<Plan, BoxError> {
         "bleed_albumin" => {
             let patient = Patient {
                 hematocrit: Some(0.44),
-                ..Patient::healthy("male", 45.0, 80.0)
+                ..Patient::healthy(Sex::Male, 45.0, 80.0)
             };
             Plan::new(patient)
                 .run_for(24.0)

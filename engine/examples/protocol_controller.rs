@@ -9,6 +9,8 @@
 //! Caution: a simulation for planning and teaching, not a medical device.
 //! Defer to local protocols and licensed clinicians; re-measure sodium.
 
+use tidewater::{Cause, Onset, Sex};
+
 use tidewater::{
     Action, Controller, FluidLibrary, Patient, Plan, Route, Simulation, Snapshot, Stream,
 };
@@ -48,9 +50,9 @@ impl Controller for Protocol {
 fn main() -> Result<(), Box<dyn std::error::Error>> {
     let patient = Patient {
         na: Some(114.0),
-        onset: Some("chronic".into()),
-        cause: Some("hypovolemic".into()),
-        ..Patient::healthy("female", 71.0, 58.0)
+        onset: Some(Onset::Chronic),
+        cause: Some(Cause::Hypovolemic),
+        ..Patient::healthy(Sex::Female, 71.0, 58.0)
     };
     let fluids = FluidLibrary::bundled();
     let saline = Stream::give(fluids.get("saline_0_9")?, 1.5, 12.0)?;

@@ -10,6 +10,8 @@
 //! Caution: a simulation for planning and teaching, not a medical device.
 //! Defer to local protocols and licensed clinicians; re-measure sodium.
 
+use tidewater::{Cause, Onset, Sex};
+
 use tidewater::sweep::{run_sweep, PlanRunner, Shard, Summary, SweepSpec};
 use tidewater::{Action, FluidLibrary, Patient, Plan, Stream};
 
@@ -17,9 +19,9 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     let fluids = FluidLibrary::bundled();
     let base = Plan::new(Patient {
         na: Some(118.0),
-        onset: Some("chronic".into()),
-        cause: Some("hypovolemic".into()),
-        ..Patient::healthy("male", 62.0, 70.0)
+        onset: Some(Onset::Chronic),
+        cause: Some(Cause::Hypovolemic),
+        ..Patient::healthy(Sex::Male, 62.0, 70.0)
     })
     .run_for(24.0)
     .sample_every(0.5)

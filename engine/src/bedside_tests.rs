@@ -1,13 +1,14 @@
 use super::*;
 use crate::body::N_STATES;
+use crate::Cause;
 use crate::{FluidLibrary, Patient, Plan, Simulation, Stream};
 
 fn patient(sex: &str, na: f64, tbw_l: f64) -> Patient {
     Patient {
         na: Some(na),
-        cause: Some("inappropriate_antidiuresis".into()),
+        cause: Some(Cause::InappropriateAntidiuresis),
         water_fraction: Some(0.5),
-        ..Patient::healthy(sex, 50.0, tbw_l / 0.5)
+        ..Patient::healthy(sex.parse().expect("male or female"), 50.0, tbw_l / 0.5)
     }
 }
 

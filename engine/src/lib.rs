@@ -53,13 +53,13 @@
 //! | [`fit`] | learning a patient's unknowns from observed labs (Levenberg–Marquardt on the posterior, Laplace uncertainty) and the forecast with bands |
 //!
 //! ```
-//! use tidewater::{FluidLibrary, Patient, Plan, Simulation, Stream};
+//! use tidewater::{Cause, FluidLibrary, Patient, Plan, Sex, Simulation, Stream};
 //!
 //! let fluids = FluidLibrary::bundled();
 //! let patient = Patient {
 //!     na: Some(118.0),
-//!     cause: Some("inappropriate_antidiuresis".into()),
-//!     ..Patient::healthy("female", 60.0, 65.0)
+//!     cause: Some(Cause::InappropriateAntidiuresis),
+//!     ..Patient::healthy(Sex::Female, 60.0, 65.0)
 //! };
 //! let plan = Plan::new(patient)
 //!     .run_for(24.0)
@@ -109,13 +109,14 @@ pub mod validation;
 pub mod yaml;
 
 pub use body::{Body, Species, N_STATES_BODY, S};
+pub use causes::Cause;
 pub use error::{InputError, SimulationError};
 pub use fluids::{Fluid, FluidLibrary};
 pub use goals::{BelowStart, GoalResult, GoalStatus};
 pub use limits::{Flag, LimitChoice, Situation};
 pub use model::{Inputs, Model, Observation, StartBalance, Switches, WaterIntakeSource};
 pub use params::{Params, PARAMETERS};
-pub use patient::{Patient, ResolvedPatient};
+pub use patient::{Onset, Patient, ResolvedPatient, Sex, Symptoms, WaterMethod};
 pub use plan::{Action, Controller, Event, Plan, Route, Snapshot, Stream, Tolerances};
 pub use simulate::Simulation;
 pub use trajectory::{Sample, SolverStats, Trajectory};

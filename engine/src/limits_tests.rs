@@ -1,4 +1,5 @@
 use super::*;
+use crate::{Cause, Onset, Sex};
 
 fn series_from(na0: f64, rate_per_h: f64, hours: usize) -> (Vec<f64>, Vec<f64>) {
     let t: Vec<f64> = (0..=hours).map(|h| h as f64).collect();
@@ -136,9 +137,9 @@ fn unknown_onset_counts_as_chronic() {
     // Guidelines treat hyponatremia of unknown duration as chronic
     // (Spasovski et al. 2014, from memory): without an onset the patient
     // resolves as chronic and the chronic-only rules apply.
-    let mut p = crate::patient::Patient::healthy("male", 80.0, 60.0);
+    let mut p = crate::patient::Patient::healthy(Sex::Male, 80.0, 60.0);
     p.na = Some(157.0);
-    p.cause = Some("inadequate_water_intake".into());
+    p.cause = Some(Cause::InadequateWaterIntake);
     let r = p.resolve(&crate::Params::default()).unwrap();
     let s = Situation::of(&r);
     assert_eq!(s.onset, Onset::Chronic);

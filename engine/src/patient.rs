@@ -5,6 +5,7 @@
 //! in and in engine units; [`crate::model::Model::new`] then builds the
 //! steady, consistent initial state from it.
 
+pub use crate::causes::Cause;
 use crate::error::InputError;
 use crate::formulas;
 use crate::params::Params;
@@ -47,11 +48,12 @@ pub fn numeric_patient_fields() -> impl Iterator<Item = &'static str> {
 
 /// A patient as described by the user. Optional fields fall back to the
 /// defaults of [`Params`] (normal labs) or of the sex.
-#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Patient {
-    /// "male" or "female".
-    pub sex: String,
+    /// Male or female (written "male" or "female").
+    #[serde(serialize_with = "word_out")]
+    pub sex: Sex,
     /// Age, years.
     pub age_years: f64,
     /// Body weight, kg.
@@ -62,9 +64,10 @@ pub struct Patient {
     /// Total body water as a fraction of weight (overrides the method).
     #[serde(default)]
     pub water_fraction: Option<f64>,
-    /// "fraction" (rule of thumb by sex and age, the default) or "watson".
-    #[serde(default)]
-    pub water_method: Option<String>,
+    /// How total body water is estimated: "fraction" (rule of thumb by sex
+    /// and age, the default) or "watson".
+    #[serde(default, serialize_with = "word_out_opt")]
+    pub water_method: Option<WaterMethod>,
     /// Serum sodium, mmol/L.
     #[serde(default)]
     pub na: Option<f64>,
@@ -90,19 +93,160 @@ pub struct Patient {
     #[serde(default)]
     pub hematocrit: Option<f64>,
     /// "acute" (< 48 h: brain not adapted) or "chronic" (the default).
-    #[serde(default)]
-    pub onset: Option<String>,
+    #[serde(default, serialize_with = "word_out_opt")]
+    pub onset: Option<Onset>,
     /// Symptoms at the start: "none" (the default), "moderate" or
     /// "severe" (decides which guideline goals apply; the model itself
     /// does not use them).
-    #[serde(default)]
-    pub symptoms: Option<String>,
-    /// What keeps sodium where it is (see [`crate::causes::Cause`]):
-    /// none, hypovolemic, inappropriate_antidiuresis, reset_osmostat,
-    /// low_solute_intake, primary_polydipsia, diuretic_induced,
-    /// insulin_deficiency.
-    #[serde(default)]
-    pub cause: Option<String>,
+    #[serde(default, serialize_with = "word_out_opt")]
+    pub symptoms: Option<Symptoms>,
+    /// What keeps sodium where it is (see [`Cause`]): none, hypovolemic,
+    /// inappropriate_antidiuresis, reset_osmostat, low_solute_intake,
+    /// primary_polydipsia, diuretic_induced, insulin_deficiency,
+    /// inadequate_water_intake.
+    #[serde(default, serialize_with = "word_out_opt")]
+    pub cause: Option<Cause>,
+}
+
+/// A choice a user writes as a word (`"female"`, `"chronic"`): parsed
+/// without regard to case, written back in its canonical form.
+pub trait Word: Sized + Copy {
+    /// Parse the word; the error names the field and the accepted words.
+    fn parse(text: &str) -> Result<Self, InputError>;
+    /// The canonical word.
+    fn word(self) -> &'static str;
+}
+
+/// Words of patient descriptions are read from YAML and JSON as strings.
+macro_rules! word_from_text {
+    ($($t:ty),*) => {$(
+        impl<'de> Deserialize<'de> for $t {
+            fn deserialize<D: serde::Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+                let text = String::deserialize(d)?;
+                <$t as Word>::parse(&text).map_err(serde::de::Error::custom)
+            }
+        }
+        impl std::str::FromStr for $t {
+            type Err = InputError;
+            fn from_str(text: &str) -> Result<Self, InputError> {
+                <$t as Word>::parse(text)
+            }
+        }
+        impl std::fmt::Display for $t {
+            fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+                f.write_str(self.word())
+            }
+        }
+    )*};
+}
+word_from_text!(Sex, Onset, Symptoms, WaterMethod, Cause);
+
+fn word_out<W: Word, S: serde::Serializer>(w: &W, s: S) -> Result<S::Ok, S::Error> {
+    s.serialize_str(w.word())
+}
+
+fn word_out_opt<W: Word, S: serde::Serializer>(w: &Option<W>, s: S) -> Result<S::Ok, S::Error> {
+    match w {
+        Some(w) => s.serialize_str(w.word()),
+        None => s.serialize_none(),
+    }
+}
+
+/// Match `text` (trimmed, any case, `-` and spaces read as `_`) against
+/// the accepted words of a field.
+fn choose<T: Copy>(
+    field: &str,
+    text: &str,
+    words: &[(&str, T)],
+    expected: &str,
+) -> Result<T, InputError> {
+    let key = text.trim().to_ascii_lowercase().replace(['-', ' '], "_");
+    words
+        .iter()
+        .find(|(w, _)| *w == key)
+        .map(|(_, t)| *t)
+        .ok_or_else(|| InputError::BadChoice {
+            field: field.into(),
+            value: text.into(),
+            expected: expected.into(),
+        })
+}
+
+impl Word for Sex {
+    fn parse(text: &str) -> Result<Self, InputError> {
+        use Sex::*;
+        let words = [("male", Male), ("man", Male), ("m", Male)];
+        let more = [("female", Female), ("woman", Female), ("f", Female)];
+        let all: Vec<_> = words.into_iter().chain(more).collect();
+        choose("sex", text, &all, "male, female")
+    }
+    fn word(self) -> &'static str {
+        match self {
+            Sex::Male => "male",
+            Sex::Female => "female",
+        }
+    }
+}
+
+impl Word for Onset {
+    fn parse(text: &str) -> Result<Self, InputError> {
+        let words = [("acute", Onset::Acute), ("chronic", Onset::Chronic)];
+        choose("onset", text, &words, "acute, chronic")
+    }
+    fn word(self) -> &'static str {
+        match self {
+            Onset::Acute => "acute",
+            Onset::Chronic => "chronic",
+        }
+    }
+}
+
+impl Word for Symptoms {
+    fn parse(text: &str) -> Result<Self, InputError> {
+        use Symptoms::*;
+        let words = [("none", None), ("moderate", Moderate), ("severe", Severe)];
+        choose("symptoms", text, &words, "none, moderate, severe")
+    }
+    fn word(self) -> &'static str {
+        match self {
+            Symptoms::None => "none",
+            Symptoms::Moderate => "moderate",
+            Symptoms::Severe => "severe",
+        }
+    }
+}
+
+impl Word for WaterMethod {
+    fn parse(text: &str) -> Result<Self, InputError> {
+        use WaterMethod::*;
+        let words = [("fraction", Fraction), ("watson", Watson)];
+        choose("water_method", text, &words, "fraction, watson")
+    }
+    fn word(self) -> &'static str {
+        match self {
+            WaterMethod::Fraction => "fraction",
+            WaterMethod::Watson => "watson",
+        }
+    }
+}
+
+impl Word for Cause {
+    fn parse(text: &str) -> Result<Self, InputError> {
+        Cause::parse(text)
+    }
+    fn word(self) -> &'static str {
+        self.name()
+    }
+}
+
+/// How total body water is estimated when no fraction is given.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Serialize)]
+pub enum WaterMethod {
+    /// A fraction of weight by sex and age (rule of thumb; the default).
+    #[default]
+    Fraction,
+    /// Watson et al. 1980, from sex, age, height and weight.
+    Watson,
 }
 
 /// Sex, for body-water rules of thumb and formulas.
@@ -128,8 +272,7 @@ pub enum Onset {
 /// (Spasovski et al. 2014: moderately severe, e.g. nausea without
 /// vomiting, confusion, headache; severe, e.g. vomiting, seizures,
 /// somnolence, coma; from memory). Only the guideline goals use them.
-#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Serialize, Deserialize)]
-#[serde(rename_all = "lowercase")]
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Serialize)]
 pub enum Symptoms {
     /// None or mild (the default when not given).
     #[default]
@@ -172,7 +315,7 @@ pub struct ResolvedPatient {
     /// Symptoms at the start.
     pub symptoms: Symptoms,
     /// Cause.
-    pub cause: crate::causes::Cause,
+    pub cause: Cause,
 }
 
 fn check_range(field: &str, value: f64, min: f64, max: f64, unit: &str) -> Result<f64, InputError> {
@@ -209,17 +352,7 @@ fn one_of(
 impl Patient {
     /// Check every field and fill in defaults.
     pub fn resolve(&self, params: &Params) -> Result<ResolvedPatient, InputError> {
-        let sex = match self.sex.trim().to_ascii_lowercase().as_str() {
-            "male" | "man" | "m" => Sex::Male,
-            "female" | "woman" | "f" => Sex::Female,
-            _ => {
-                return Err(InputError::BadChoice {
-                    field: "sex".into(),
-                    value: self.sex.clone(),
-                    expected: "male, female".into(),
-                })
-            }
-        };
+        let sex = self.sex;
         let age_years = check_range("age_years", self.age_years, 16.0, 110.0, "years")?;
         let weight_kg = check_range("weight_kg", self.weight_kg, 30.0, 250.0, "kg")?;
         let height_cm = match self.height_cm {
@@ -227,52 +360,42 @@ impl Patient {
             None => None,
         };
         let elderly = age_years >= params.elderly_age_years;
-        let (total_water_l, water_method) =
-            match (self.water_fraction, self.water_method.as_deref()) {
-                (Some(_), Some(m)) if m != "fraction" => {
-                    return Err(InputError::Conflict {
-                        field: "water_fraction".into(),
-                        other: "water_method".into(),
-                        why: format!(
-                            "a fixed water fraction cannot be combined with the {m} method"
-                        ),
-                    })
-                }
-                (Some(f), _) => {
-                    let f = check_range("water_fraction", f, 0.3, 0.8, "L/kg")?;
-                    (f * weight_kg, format!("fraction {f:.2} of weight (given)"))
-                }
-                (None, None) | (None, Some("fraction")) => {
-                    let f = match (sex, elderly) {
-                        (Sex::Male, false) => params.tbw_fraction_man,
-                        (Sex::Male, true) => params.tbw_fraction_elderly_man,
-                        (Sex::Female, false) => params.tbw_fraction_woman,
-                        (Sex::Female, true) => params.tbw_fraction_elderly_woman,
-                    };
-                    (
-                        f * weight_kg,
-                        format!("fraction {f:.2} of weight (rule of thumb)"),
-                    )
-                }
-                (None, Some("watson")) => {
-                    let h = height_cm.ok_or_else(|| InputError::Missing {
-                        field: "height_cm".into(),
-                        why: "the Watson water method needs the height".into(),
-                    })?;
-                    let tbw = match sex {
-                        Sex::Male => formulas::watson_tbw_man_l(age_years, h, weight_kg),
-                        Sex::Female => formulas::watson_tbw_woman_l(h, weight_kg),
-                    };
-                    (tbw, "Watson et al. 1980".to_string())
-                }
-                (None, Some(other)) => {
-                    return Err(InputError::BadChoice {
-                        field: "water_method".into(),
-                        value: other.to_string(),
-                        expected: "fraction, watson".into(),
-                    })
-                }
-            };
+        let (total_water_l, water_method) = match (self.water_fraction, self.water_method) {
+            (Some(_), Some(m)) if m != WaterMethod::Fraction => {
+                return Err(InputError::Conflict {
+                    field: "water_fraction".into(),
+                    other: "water_method".into(),
+                    why: format!("a fixed water fraction cannot be combined with the {m} method"),
+                })
+            }
+            (Some(f), _) => {
+                let f = check_range("water_fraction", f, 0.3, 0.8, "L/kg")?;
+                (f * weight_kg, format!("fraction {f:.2} of weight (given)"))
+            }
+            (None, None) | (None, Some(WaterMethod::Fraction)) => {
+                let f = match (sex, elderly) {
+                    (Sex::Male, false) => params.tbw_fraction_man,
+                    (Sex::Male, true) => params.tbw_fraction_elderly_man,
+                    (Sex::Female, false) => params.tbw_fraction_woman,
+                    (Sex::Female, true) => params.tbw_fraction_elderly_woman,
+                };
+                (
+                    f * weight_kg,
+                    format!("fraction {f:.2} of weight (rule of thumb)"),
+                )
+            }
+            (None, Some(WaterMethod::Watson)) => {
+                let h = height_cm.ok_or_else(|| InputError::Missing {
+                    field: "height_cm".into(),
+                    why: "the Watson water method needs the height".into(),
+                })?;
+                let tbw = match sex {
+                    Sex::Male => formulas::watson_tbw_man_l(age_years, h, weight_kg),
+                    Sex::Female => formulas::watson_tbw_woman_l(h, weight_kg),
+                };
+                (tbw, "Watson et al. 1980".to_string())
+            }
+        };
         check_range(
             "total body water (derived)",
             total_water_l / weight_kg,
@@ -334,39 +457,9 @@ impl Patient {
                 Sex::Female => params.hematocrit_woman,
             },
         };
-        let onset = match self.onset.as_deref().map(|s| s.trim().to_ascii_lowercase()) {
-            None => Onset::Chronic,
-            Some(s) if s == "chronic" => Onset::Chronic,
-            Some(s) if s == "acute" => Onset::Acute,
-            Some(_) => {
-                return Err(InputError::BadChoice {
-                    field: "onset".into(),
-                    value: self.onset.clone().unwrap_or_default(),
-                    expected: "acute, chronic".into(),
-                })
-            }
-        };
-        let symptoms = match self
-            .symptoms
-            .as_deref()
-            .map(|s| s.trim().to_ascii_lowercase())
-        {
-            None => Symptoms::None,
-            Some(s) if s == "none" => Symptoms::None,
-            Some(s) if s == "moderate" => Symptoms::Moderate,
-            Some(s) if s == "severe" => Symptoms::Severe,
-            Some(_) => {
-                return Err(InputError::BadChoice {
-                    field: "symptoms".into(),
-                    value: self.symptoms.clone().unwrap_or_default(),
-                    expected: "none, moderate, severe".into(),
-                })
-            }
-        };
-        let cause = match &self.cause {
-            Some(c) => crate::causes::Cause::parse(c)?,
-            None => crate::causes::Cause::None,
-        };
+        let onset = self.onset.unwrap_or(Onset::Chronic);
+        let symptoms = self.symptoms.unwrap_or_default();
+        let cause = self.cause.unwrap_or(Cause::None);
         Ok(ResolvedPatient {
             cause,
             sex,
@@ -387,12 +480,25 @@ impl Patient {
     }
 
     /// A healthy adult: the given sex, age and weight with normal labs.
-    pub fn healthy(sex: &str, age_years: f64, weight_kg: f64) -> Self {
+    pub fn healthy(sex: Sex, age_years: f64, weight_kg: f64) -> Self {
         Patient {
-            sex: sex.to_string(),
+            sex,
             age_years,
             weight_kg,
-            ..Default::default()
+            height_cm: None,
+            water_fraction: None,
+            water_method: None,
+            na: None,
+            k: None,
+            glucose_mmol_l: None,
+            glucose_mg_dl: None,
+            urea_mmol_l: None,
+            bun_mg_dl: None,
+            albumin_g_l: None,
+            hematocrit: None,
+            onset: None,
+            symptoms: None,
+            cause: None,
         }
     }
 }
@@ -407,68 +513,5 @@ pub fn patient_from_yaml(text: &str, file: &str) -> Result<Patient, InputError> 
 }
 
 #[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn every_numeric_field_is_a_field_a_sweep_can_set() {
-        assert_eq!(numeric_patient_fields().count(), 12);
-        for f in numeric_patient_fields() {
-            let mut p = Patient::healthy("male", 40.0, 70.0);
-            crate::sweep::set_patient_field(&mut p, f, 1.0).unwrap_or_else(|e| panic!("{e}"));
-        }
-        for f in TEXT_PATIENT_FIELDS {
-            assert!(PATIENT_FIELDS.contains(f), "{f}");
-        }
-        let mut p = Patient::healthy("male", 40.0, 70.0);
-        assert!(crate::sweep::set_patient_field(&mut p, "sex", 1.0).is_err());
-    }
-
-    fn resolve(p: Patient) -> Result<ResolvedPatient, InputError> {
-        p.resolve(&Params::default())
-    }
-
-    #[test]
-    fn healthy_man_uses_rule_of_thumb() {
-        let r = resolve(Patient::healthy("male", 40.0, 70.0)).unwrap();
-        assert!((r.total_water_l - 42.0).abs() < 1e-9);
-        assert_eq!(r.onset, Onset::Chronic);
-    }
-
-    #[test]
-    fn bad_fields_are_named() {
-        let mut p = Patient::healthy("male", 40.0, -70.0);
-        assert_eq!(resolve(p.clone()).unwrap_err().field(), "weight_kg");
-        p.weight_kg = 70.0;
-        p.na = Some(300.0);
-        assert_eq!(resolve(p.clone()).unwrap_err().field(), "na");
-        p.na = None;
-        p.sex = "robot".into();
-        assert_eq!(resolve(p.clone()).unwrap_err().field(), "sex");
-        p.sex = "female".into();
-        p.albumin_g_l = Some(0.0);
-        assert_eq!(resolve(p.clone()).unwrap_err().field(), "albumin_g_l");
-        p.albumin_g_l = None;
-        p.glucose_mg_dl = Some(90.0);
-        p.glucose_mmol_l = Some(5.0);
-        assert!(matches!(
-            resolve(p.clone()),
-            Err(InputError::Conflict { .. })
-        ));
-        p.glucose_mmol_l = None;
-        p.water_method = Some("watson".into());
-        assert_eq!(resolve(p).unwrap_err().field(), "height_cm");
-    }
-
-    #[test]
-    fn yaml_errors_carry_a_location() {
-        let err = patient_from_yaml(
-            "sex: male\nage_years: 40\nweight_kg: 70\nnaa: 120\n",
-            "p.yaml",
-        )
-        .unwrap_err();
-        let msg = err.to_string();
-        assert!(msg.contains("p.yaml:4"), "{msg}");
-        assert!(msg.contains("naa"), "{msg}");
-    }
-}
+#[path = "patient_tests.rs"]
+mod tests;

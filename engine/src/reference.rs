@@ -4,6 +4,8 @@
 //! volume is restored the non-osmotic vasopressin stimulus fades and a water
 //! diuresis follows: the case overcorrects, which is why it teaches.
 
+use crate::{Cause, Onset, Sex};
+
 use crate::fluids::FluidLibrary;
 use crate::patient::Patient;
 use crate::plan::{Plan, Stream};
@@ -15,9 +17,9 @@ pub fn benchmark_plan() -> Plan {
     let isotonic = fluids.get("saline_0_9").expect("bundled fluid");
     let patient = Patient {
         na: Some(118.0),
-        onset: Some("chronic".into()),
-        cause: Some("hypovolemic".into()),
-        ..Patient::healthy("female", 58.0, 62.0)
+        onset: Some(Onset::Chronic),
+        cause: Some(Cause::Hypovolemic),
+        ..Patient::healthy(Sex::Female, 58.0, 62.0)
     };
     let mut plan = Plan::new(patient).run_for(48.0).check_every(2.0);
     for k in 0..3 {

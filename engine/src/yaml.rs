@@ -33,8 +33,9 @@ pub fn from_str<T: DeserializeOwned>(text: &str) -> Result<T, YamlError> {
     serde_yaml::from_str(text).map_err(|e| {
         let location = e.location().map(|l| (l.line(), l.column()));
         let message = strip_location(&e.to_string());
-        let location = match (duplicated_key(&message), location) {
-            (Some(key), Some(at)) => repeated_key_line(text, at, key).or(Some(at)),
+        let location = match (duplicated_key(&message), refused_word(&message), location) {
+            (Some(key), _, Some(at)) => key_line(text, at, key, 2).or(Some(at)),
+            (None, Some(key), Some(at)) => key_line(text, at, key, 1).or(Some(at)),
             _ => location,
         };
         YamlError { location, message }
@@ -64,14 +65,25 @@ fn duplicated_key(message: &str) -> Option<&str> {
     None
 }
 
-/// The line (and column) where `key` appears a second time in the block
-/// map whose first key is at `(line, column)`: the keys of a block map sit
-/// at that column on later lines until a line indented less, or a new list
-/// item at the same column, ends the map.
-fn repeated_key_line(
+/// The field named by a refused word (`onset = "sudden" is not one of:
+/// ...`, the engine's own message for a choice), if it is one: the parser
+/// places such errors at the start of the map, not at the field.
+fn refused_word(message: &str) -> Option<&str> {
+    let (field, rest) = message.split_once(" = \"")?;
+    let field = field.rsplit([' ', ':']).next()?;
+    let plain = !field.is_empty() && field.chars().all(|c| c.is_ascii_alphanumeric() || c == '_');
+    (plain && rest.contains("\" is not one of: ")).then_some(field)
+}
+
+/// The line (and column) where `key` appears for the `nth` time in the
+/// block map whose first key is at `(line, column)`: the keys of a block
+/// map sit at that column on later lines until a line indented less, or a
+/// new list item at the same column, ends the map.
+fn key_line(
     text: &str,
     (line, column): (usize, usize),
     key: &str,
+    nth: usize,
 ) -> Option<(usize, usize)> {
     let indent = column.checked_sub(1)?;
     let mut seen = 0;
@@ -101,7 +113,7 @@ fn repeated_key_line(
             .trim_matches(['"', '\'']);
         if name == key {
             seen += 1;
-            if seen == 2 {
+            if seen == nth {
                 return Some((number, column));
             }
         }

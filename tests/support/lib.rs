@@ -9,7 +9,7 @@ pub fn patient_with_water(sex: &str, na: f64, tbw_l: f64) -> Patient {
     Patient {
         na: Some(na),
         water_fraction: Some(0.5),
-        ..Patient::healthy(sex, 50.0, tbw_l / 0.5)
+        ..Patient::healthy(sex.parse().expect("male or female"), 50.0, tbw_l / 0.5)
     }
 }
 

@@ -220,12 +220,13 @@ mod tests {
     use super::*;
     use crate::model::Switches;
     use crate::patient::Patient;
+    use crate::Sex;
 
     fn model_for(cause: &str, na: f64) -> (Model, ResolvedPatient) {
         let params = Params::default();
-        let mut patient = Patient::healthy("female", 60.0, 60.0);
+        let mut patient = Patient::healthy(Sex::Female, 60.0, 60.0);
         patient.na = Some(na);
-        patient.cause = Some(cause.into());
+        patient.cause = Some(Cause::parse(cause).unwrap());
         let resolved = patient.resolve(&params).unwrap();
         let mut p = params.clone();
         resolved.cause.apply(&resolved, &mut p);

@@ -1,6 +1,8 @@
 //! Unit tests of the model as a whole: a steady start, compartments,
 //! start balance, refusals and conservation.
 
+use crate::Sex;
+
 use super::{Inputs, Model, Switches};
 use crate::body::Species;
 use crate::body::{Body, N_STATES, S};
@@ -9,7 +11,7 @@ use crate::patient::Patient;
 
 fn healthy() -> (Model, Body) {
     let params = Params::default();
-    let patient = Patient::healthy("male", 40.0, 70.0)
+    let patient = Patient::healthy(Sex::Male, 40.0, 70.0)
         .resolve(&params)
         .unwrap();
     Model::new(&patient, &params, Switches::default()).unwrap()
@@ -52,7 +54,7 @@ fn compartments_follow_rules_of_thumb() {
 
 fn healthy_at(na: f64) -> Model {
     let params = Params::default();
-    let mut patient = Patient::healthy("male", 30.0, 75.0);
+    let mut patient = Patient::healthy(Sex::Male, 30.0, 75.0);
     patient.na = Some(na);
     let patient = patient.resolve(&params).unwrap();
     Model::new(&patient, &params, Switches::default())
@@ -79,7 +81,7 @@ fn a_healthy_start_drinks_and_passes_ordinary_amounts() {
 #[test]
 fn an_unexplained_low_sodium_is_refused_naming_the_causes() {
     let params = Params::default();
-    let mut patient = Patient::healthy("female", 70.0, 60.0);
+    let mut patient = Patient::healthy(Sex::Female, 70.0, 60.0);
     patient.na = Some(125.0);
     let patient = patient.resolve(&params).unwrap();
     let err = Model::new(&patient, &params, Switches::default()).unwrap_err();

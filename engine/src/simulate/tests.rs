@@ -1,5 +1,7 @@
 //! Runs of the driver: steady state, a negative pool, a controller.
 
+use crate::Sex;
+
 use super::*;
 use crate::error::SimulationError;
 use crate::fluids::FluidLibrary;
@@ -7,7 +9,7 @@ use crate::patient::Patient;
 
 #[test]
 fn healthy_adult_run_balances_and_stays_steady() {
-    let plan = Plan::new(Patient::healthy("female", 35.0, 60.0)).run_for(24.0);
+    let plan = Plan::new(Patient::healthy(Sex::Female, 35.0, 60.0)).run_for(24.0);
     let traj = Simulation::new(plan).unwrap().run().unwrap();
     assert_eq!(traj.samples.len(), 24 * 12 + 1);
     assert!(traj.max_balance_residual() < 1e-9, "{:?}", traj.balance);
@@ -24,7 +26,7 @@ fn a_loss_larger_than_the_body_holds_stops_with_a_named_pool() {
     let lib = FluidLibrary::bundled();
     let mut potassium_loss = lib.get("gastric").unwrap().clone();
     potassium_loss.k = 1500.0;
-    let plan = Plan::new(Patient::healthy("male", 50.0, 70.0))
+    let plan = Plan::new(Patient::healthy(Sex::Male, 50.0, 70.0))
         .closed_system()
         .run_for(24.0)
         .start(1.0, Stream::lose(&potassium_loss, 3.0, 10.0).unwrap());
@@ -56,7 +58,7 @@ fn controller_stops_an_infusion_at_a_check() {
     let lib = FluidLibrary::bundled();
     let patient = Patient {
         na: Some(120.0),
-        ..Patient::healthy("male", 50.0, 70.0)
+        ..Patient::healthy(Sex::Male, 50.0, 70.0)
     };
     let plan = Plan::new(patient)
         .closed_system()
@@ -87,7 +89,7 @@ fn stream_totals_count_what_each_stream_really_gave() {
     let lib = FluidLibrary::bundled();
     let patient = Patient {
         na: Some(120.0),
-        ..Patient::healthy("male", 50.0, 70.0)
+        ..Patient::healthy(Sex::Male, 50.0, 70.0)
     };
     let plan = Plan::new(patient)
         .closed_system()

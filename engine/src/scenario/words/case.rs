@@ -8,7 +8,7 @@ use super::args::{
 };
 use super::state::{Phase, Shared};
 use crate::fluids::FluidLibrary;
-use crate::patient::Patient;
+use crate::patient::{Patient, Sex, Word};
 use rhai::{Dynamic, Engine, EvalAltResult, Map, NativeCallContext};
 use std::path::{Component, Path, PathBuf};
 use std::rc::Rc;
@@ -34,9 +34,16 @@ fn find_key_line(source: &str, from_line: usize, key: &str) -> Option<(usize, us
     None
 }
 
+/// A word of a patient map (`sex`, `onset`, ...), its error worded for
+/// the script.
+fn choice<W: Word>(text: String) -> Result<W, String> {
+    W::parse(&text).map_err(|e| format!("patient: {e}"))
+}
+
 /// Build a [`Patient`] from a script map.
 fn patient_from_map(ctx: &NativeCallContext, map: &Map, source: &str) -> Res<Patient> {
-    let mut p = Patient::default();
+    // Sex, age and weight are required: checked below once every key is read.
+    let mut p = Patient::healthy(Sex::Female, 0.0, 0.0);
     let line = line_of(ctx);
     let err_at = |key: &str, message: String| -> Box<EvalAltResult> {
         let pos = match find_key_line(source, line, key) {
@@ -72,12 +79,12 @@ fn patient_from_map(ctx: &NativeCallContext, map: &Map, source: &str) -> Res<Pat
             }
         };
         match key {
-            "sex" => p.sex = text()?,
+            "sex" => p.sex = choice(text()?).map_err(|m| err_at(key, m))?,
             "age_years" => p.age_years = num()?,
             "weight_kg" => p.weight_kg = num()?,
             "height_cm" => p.height_cm = Some(num()?),
             "water_fraction" => p.water_fraction = Some(num()?),
-            "water_method" => p.water_method = Some(text()?),
+            "water_method" => p.water_method = Some(choice(text()?).map_err(|m| err_at(key, m))?),
             "na" => p.na = Some(num()?),
             "k" => p.k = Some(num()?),
             "glucose_mmol_l" => p.glucose_mmol_l = Some(num()?),
@@ -86,9 +93,9 @@ fn patient_from_map(ctx: &NativeCallContext, map: &Map, source: &str) -> Res<Pat
             "bun_mg_dl" => p.bun_mg_dl = Some(num()?),
             "albumin_g_l" => p.albumin_g_l = Some(num()?),
             "hematocrit" => p.hematocrit = Some(num()?),
-            "onset" => p.onset = Some(text()?),
-            "symptoms" => p.symptoms = Some(text()?),
-            "cause" => p.cause = Some(text()?),
+            "onset" => p.onset = Some(choice(text()?).map_err(|m| err_at(key, m))?),
+            "symptoms" => p.symptoms = Some(choice(text()?).map_err(|m| err_at(key, m))?),
+            "cause" => p.cause = Some(choice(text()?).map_err(|m| err_at(key, m))?),
             other => {
                 let hint =
                     crate::suggest::closest(other, crate::patient::PATIENT_FIELDS.iter().copied())

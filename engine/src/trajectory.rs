@@ -277,6 +277,29 @@ impl Trajectory {
         }
     }
 
+    /// The value `f` reads off the samples at time `t`, linear between the
+    /// two samples around it and clamped at the ends: [`interpolate`] over
+    /// the series `f` gives, without building the series (same bits).
+    pub fn value_at(&self, t: f64, f: impl Fn(&Sample) -> f64) -> f64 {
+        let samples = &self.samples;
+        let Some(first) = samples.first() else {
+            return f64::NAN;
+        };
+        if t <= first.time_h {
+            return f(first);
+        }
+        let j = samples.partition_point(|s| s.time_h < t);
+        if j >= samples.len() {
+            return f(&samples[samples.len() - 1]);
+        }
+        let (a, b) = (&samples[j - 1], &samples[j]);
+        if b.time_h - a.time_h <= 0.0 {
+            return f(b);
+        }
+        let (va, vb) = (f(a), f(b));
+        va + (vb - va) * (t - a.time_h) / (b.time_h - a.time_h)
+    }
+
     /// The last sample.
     pub fn last(&self) -> &Sample {
         &self.samples[self.samples.len() - 1]
@@ -335,6 +358,32 @@ mod tests {
             for (j, f) in fast.iter().enumerate() {
                 assert_eq!(*f, trailing_change(&t, &v, j, w), "window {w}, sample {j}");
             }
+        }
+    }
+
+    #[test]
+    fn value_at_reads_the_samples_as_interpolate_reads_the_series() {
+        let plan = crate::Plan::new(crate::Patient::healthy(crate::Sex::Female, 50.0, 60.0))
+            .run_for(3.0)
+            .start(
+                0.5,
+                crate::Stream::drink(
+                    crate::FluidLibrary::bundled().get("water").unwrap(),
+                    0.5,
+                    0.25,
+                )
+                .unwrap(),
+            );
+        let traj = crate::Simulation::new(plan).unwrap().run().unwrap();
+        let times = traj.times();
+        let na: Vec<f64> = traj.samples.iter().map(|s| s.obs.na_mmol_l).collect();
+        for t in [-1.0, 0.0, 0.01, 0.5, 0.61, 1.234, 2.999, 3.0, 7.0] {
+            let read = traj.value_at(t, |s| s.obs.na_mmol_l);
+            assert_eq!(
+                read.to_bits(),
+                interpolate(&times, &na, t).to_bits(),
+                "t {t}"
+            );
         }
     }
 

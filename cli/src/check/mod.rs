@@ -149,7 +149,7 @@ fn refuse_unknown_scenarios(jobs: &[Job]) -> Result<()> {
         if let Ok(entries) = std::fs::read_dir(dir) {
             for e in entries.flatten() {
                 let p = e.path();
-                if p.extension().is_some_and(|x| x == "rhai") {
+                if scripts::is_script(&p) {
                     known.insert(scripts::stem(&p));
                 }
             }

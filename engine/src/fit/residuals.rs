@@ -4,7 +4,7 @@
 
 use crate::body::S;
 use crate::observations::{Lab, Observations};
-use crate::trajectory::{interpolate, Trajectory};
+use crate::trajectory::Trajectory;
 use serde::Serialize;
 
 /// Measurement error (one standard deviation) of a lab at a value:
@@ -56,36 +56,25 @@ pub struct Residual {
 /// between `since` and `t`, mL; for weight, `weight_kg` at the start plus
 /// the change of body water).
 pub fn model_value(traj: &Trajectory, lab: Lab, t: f64, since: f64, weight_kg: f64) -> f64 {
-    let times = traj.times();
-    let series = |f: &dyn Fn(&crate::trajectory::Sample) -> f64| -> f64 {
-        let v: Vec<f64> = traj.samples.iter().map(f).collect();
-        interpolate(&times, &v, t)
-    };
     match lab {
-        Lab::Na => series(&|s| s.obs.na_mmol_l),
-        Lab::K => series(&|s| s.obs.k_mmol_l),
-        Lab::Glucose => series(&|s| s.obs.glucose_mmol_l),
-        Lab::UrineOsm => series(&|s| s.obs.urine_osm_mosm_kg),
-        Lab::UrineNa => series(&|s| s.obs.urine_na_mmol_l),
-        Lab::UrineK => series(&|s| s.obs.urine_k_mmol_l),
+        Lab::Na => traj.value_at(t, |s| s.obs.na_mmol_l),
+        Lab::K => traj.value_at(t, |s| s.obs.k_mmol_l),
+        Lab::Glucose => traj.value_at(t, |s| s.obs.glucose_mmol_l),
+        Lab::UrineOsm => traj.value_at(t, |s| s.obs.urine_osm_mosm_kg),
+        Lab::UrineNa => traj.value_at(t, |s| s.obs.urine_na_mmol_l),
+        Lab::UrineK => traj.value_at(t, |s| s.obs.urine_k_mmol_l),
         Lab::UrineMl => {
-            let v: Vec<f64> = traj
-                .samples
-                .iter()
-                .map(|s| s.y[S::UrineL as usize])
-                .collect();
-            1000.0 * (interpolate(&times, &v, t) - interpolate(&times, &v, since))
+            let urine = |s: &crate::trajectory::Sample| s.y[S::UrineL as usize];
+            1000.0 * (traj.value_at(t, urine) - traj.value_at(since, urine))
         }
         Lab::WeightKg => {
             // Weight moves with the water in the body, the gut's included
             // (1 L of water weighs 1 kg).
-            let first = &traj.samples[0];
             let w = |s: &crate::trajectory::Sample| {
                 crate::body::total_water_l(&s.y) + s.y[S::GutWater as usize]
             };
-            let w0 = w(first);
-            let v: Vec<f64> = traj.samples.iter().map(|s| w(s) - w0).collect();
-            weight_kg + interpolate(&times, &v, t)
+            let w0 = w(&traj.samples[0]);
+            weight_kg + traj.value_at(t, |s| w(s) - w0)
         }
     }
 }

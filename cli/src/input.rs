@@ -328,6 +328,18 @@ pub fn patient_rows(sim: &Simulation) -> Vec<Row> {
             format!("{} mOsm/kg", fixed(c.avp_threshold_mosm_kg, 1)),
         ),
         row(
+            "Drinking at will (thirst)",
+            if sim.model().params.thirst_enabled >= 0.5 {
+                format!(
+                    "on: {} L/day of the habitual water at the start; thirst begins at {} mOsm/kg",
+                    fixed(st.thirst_water_l_day, 2),
+                    fixed(st.thirst_onset_mosm_kg, 1)
+                )
+            } else {
+                "off: drinks only the habitual intake and what the scenario gives".to_string()
+            },
+        ),
+        row(
             "Urine at the start",
             format!(
                 "{} L/day at {} mOsm/kg{}",

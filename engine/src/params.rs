@@ -188,8 +188,9 @@ parameters! {
     drug_electrolyte_scale_max: 1.5, [1.0, 5.0], "1", "Cap on the scaling of diuretic-driven sodium and potassium losses with plasma concentration relative to the start", "model choice (keeps drug losses bounded in extreme states)";
     interstitial_knee_width_fraction: 0.02, [0.001, 0.2], "1", "Width of the smooth knee of the interstitial pressure-volume curve, as a share of resting interstitial volume", "model choice (numerical smoothing of Guyton's curve)";
     thirst_enabled: 0.0, [0.0, 1.0], "1", "1 = the patient drinks when thirsty; 0 = drinks only what the scenario gives", "model switch";
-    thirst_threshold_mosm_kg: 298.0, [280.0, 320.0], "mOsm/kg", "Plasma osmolality at which thirst begins", "Baylis & Robertson, J R Soc Med 1980";
-    thirst_gain_l_h_per_mosm: 0.1, [0.0, 2.0], "L/h per mOsm/kg", "Drinking rate per mOsm/kg above the thirst threshold", "(M)";
+    thirst_threshold_mosm_kg: 0.0, [0.0, 320.0], "mOsm/kg", "Plasma osmolality at which thirst begins (0: the patient's own vasopressin threshold plus thirst_offset_mosm_kg; docs/model.md, thirst)", "Thompson et al., Clin Sci 1986;71:651: thirst rises linearly above 281 mOsm/kg, a threshold similar to that of vasopressin; the individual threshold is solved at the start (docs/model.md, the start)";
+    thirst_offset_mosm_kg: 0.9, [-10.0, 20.0], "mOsm/kg", "How far the thirst threshold lies above the patient's own vasopressin threshold", "systematic review of 12 studies, Perioper Med 2018;7:1 (authors from memory: Hughes, Mythen, Montgomery): thirst threshold 285.2 ± 1.3 mOsm/kg (95 % CI), vasopressin threshold 284.3 ± 0.7";
+    thirst_gain_l_h_per_mosm: 0.1, [0.0, 2.0], "L/h per mOsm/kg", "Drinking rate per mOsm/kg above the thirst threshold (at the start, drinking at will takes the place of that much habitual drinking)", "(M): no published drinking rate per mOsm/kg was found; thirst ratings rise 0.3-0.54 cm (of a 10 cm scale) per mOsm/kg (Thompson et al. 1986; the 2018 review)";
     thirst_max_l_h: 1.0, [0.0, 5.0], "L/h", "Largest drinking rate", "(M)";
 
     // --- brain adaptation (docs/model.md, brain adaptation) --------------------------------

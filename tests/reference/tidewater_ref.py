@@ -181,7 +181,8 @@ class Model:
             "loop_diuretic_k_mmol_h", "thiazide_k_mmol_h",
             "urea_fractional_excretion", "gfr_l_h", "glucose_renal_threshold_mmol_l",
             "thirst_enabled", "thirst_max_l_h", "thirst_gain_l_h_per_mosm",
-            "thirst_threshold_mosm_kg", "insensible_l_h", "metabolic_water_l_h",
+            "thirst_threshold_mosm_kg", "thirst_offset_mosm_kg",
+            "thirst_onset_raise_mosm_kg", "insensible_l_h", "metabolic_water_l_h",
             "urea_generation_mmol_h", "desmopressin_absorption_h",
             "desmopressin_half_life_h", "v2_antagonist_half_life_h", "v2_response_h",
             "gut_absorption_per_h", "drug_electrolyte_scale_max",
@@ -306,8 +307,14 @@ class Model:
         else:
             E_Na = E_K = E_U = E_G = V_u = 0.0
         if c["thirst_enabled"] >= 0.5:
+            # The onset: the threshold given, or the own vasopressin
+            # threshold plus the offset (and the start's raise).
+            onset = c["thirst_threshold_mosm_kg"]
+            if onset <= 0.0:
+                onset = (c["avp_threshold_mosm_kg"] + c["thirst_offset_mosm_kg"]
+                         + c["thirst_onset_raise_mosm_kg"])
             W_t = min(c["thirst_max_l_h"],
-                      c["thirst_gain_l_h_per_mosm"] * ramp(posm - c["thirst_threshold_mosm_kg"], 0.5))
+                      c["thirst_gain_l_h_per_mosm"] * ramp(posm - onset, 0.5))
         else:
             W_t = 0.0
         kg = c["gut_absorption_per_h"]

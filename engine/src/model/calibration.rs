@@ -6,7 +6,7 @@
 use super::resting::{
     capillaries_and_lymph, compartments, initial_state, kidney, membranes, metabolism,
 };
-use super::start::balance_the_start;
+use super::start::{balance_the_start, share_drinking_with_thirst};
 use super::{Inputs, Model, Switches};
 use crate::body::{Body, S};
 use crate::error::InputError;
@@ -125,6 +125,10 @@ pub struct Calibration {
     /// This patient's osmotic threshold for vasopressin, mOsm/kg (solved at
     /// the start so that the habitual intake is in balance).
     pub avp_threshold_mosm_kg: f64,
+    /// How far the start raised the thirst onset above the own vasopressin
+    /// threshold plus the offset, mOsm/kg: only when thirst at the start
+    /// would drink more than the habitual drinks (docs/model.md, thirst).
+    pub thirst_onset_raise_mosm_kg: f64,
     /// How the start was made steady, in the units a clinician reads.
     pub start: StartBalance,
 }
@@ -170,6 +174,12 @@ pub struct StartBalance {
     pub plasma_volume_l: f64,
     /// How blood volume was predicted.
     pub blood_volume_method: &'static str,
+    /// Plasma osmolality at which thirst begins at the start, mOsm/kg.
+    pub thirst_onset_mosm_kg: f64,
+    /// Drinking at will (thirst) at the start, L/day: part of the habitual
+    /// water intake, taken out of the habitual drinks (0 when thirst is
+    /// off).
+    pub thirst_water_l_day: f64,
     /// Whether water intake and output balance at the start (false when a
     /// given intake cannot be balanced by any admissible threshold).
     pub steady: bool,
@@ -244,6 +254,7 @@ impl Model {
             habitual_na_mmol_h: 0.0,
             habitual_k_mmol_h: 0.0,
             avp_threshold_mosm_kg: p.avp_threshold_mosm_kg,
+            thirst_onset_raise_mosm_kg: 0.0,
             start: StartBalance {
                 habitual_water_l_day: 0.0,
                 water_intake_source: WaterIntakeSource::NotApplicable,
@@ -256,12 +267,15 @@ impl Model {
                 blood_volume_l: w.blood_volume_start,
                 plasma_volume_l: w.plasma_volume,
                 blood_volume_method: w.blood_volume_method,
+                thirst_onset_mosm_kg: 0.0,
+                thirst_water_l_day: 0.0,
                 steady: true,
             },
         };
 
         let mut y = initial_state(patient, &w, &cap);
         balance_the_start(patient, p, switches, &mut calibration, &mut y)?;
+        share_drinking_with_thirst(patient, p, switches, &mut calibration, &y);
         let model = Model {
             params: p.clone(),
             calibration,

@@ -296,7 +296,12 @@ impl Model {
             thirst_water_l_h: if p.thirst_enabled >= 0.5 {
                 osmoregulation::thirst_drinking_l_h(
                     plasma_osm,
-                    p.thirst_threshold_mosm_kg,
+                    osmoregulation::thirst_onset_mosm_kg(
+                        p.thirst_threshold_mosm_kg,
+                        c.avp_threshold_mosm_kg,
+                        p.thirst_offset_mosm_kg,
+                        c.thirst_onset_raise_mosm_kg,
+                    ),
                     p.thirst_gain_l_h_per_mosm,
                     p.thirst_max_l_h,
                 )

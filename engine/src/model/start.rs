@@ -179,3 +179,60 @@ pub fn balance_the_start(
     start.steady = !switches.habitual_intake || net.abs() < 1e-6;
     Ok(())
 }
+
+/// With thirst on, part of the habitual drinking is drinking at will: the
+/// thirst the start's plasma osmolality gives (its onset at the patient's
+/// own vasopressin threshold plus the offset) takes the place of that much
+/// of the habitual drinks, so the total intake, and the balance solved
+/// above, stay as they were. When thirst alone would drink more than the
+/// habitual drinks (food water stays food), the onset is raised until it
+/// drinks exactly them. With thirst off, only the onset is recorded.
+pub fn share_drinking_with_thirst(
+    patient: &ResolvedPatient,
+    p: &Params,
+    switches: Switches,
+    calibration: &mut Calibration,
+    y: &[f64],
+) {
+    calibration.thirst_onset_raise_mosm_kg = 0.0;
+    let standing = patient.cause.standing_inputs();
+    let probe = |c: &Calibration| Model {
+        params: p.clone(),
+        calibration: c.clone(),
+        switches,
+    };
+    let thirst_on = p.thirst_enabled >= 0.5 && switches.habitual_intake;
+    let mut thirst = 0.0;
+    if thirst_on {
+        let m = probe(calibration);
+        let u = m.habitual_inputs().plus(&standing);
+        thirst = m.fluxes(y, &u).thirst_water_l_h;
+        let plasma_osm = m.observe(y, &u).osmolality_mosm_kg;
+        let food = units::per_day_to_per_h(p.food_water_l_day).min(calibration.habitual_water_l_h);
+        let drinks = calibration.habitual_water_l_h - food;
+        if thirst > drinks && p.thirst_threshold_mosm_kg <= 0.0 {
+            let onset =
+                osmoregulation::onset_for_drinking(plasma_osm, drinks, p.thirst_gain_l_h_per_mosm);
+            let unraised = osmoregulation::thirst_onset_mosm_kg(
+                0.0,
+                calibration.avp_threshold_mosm_kg,
+                p.thirst_offset_mosm_kg,
+                0.0,
+            );
+            calibration.thirst_onset_raise_mosm_kg = onset - unraised;
+            let m = probe(calibration);
+            thirst = m
+                .fluxes(y, &m.habitual_inputs().plus(&standing))
+                .thirst_water_l_h;
+        }
+        thirst = thirst.min(calibration.habitual_water_l_h);
+        calibration.habitual_water_l_h -= thirst;
+    }
+    calibration.start.thirst_onset_mosm_kg = osmoregulation::thirst_onset_mosm_kg(
+        p.thirst_threshold_mosm_kg,
+        calibration.avp_threshold_mosm_kg,
+        p.thirst_offset_mosm_kg,
+        calibration.thirst_onset_raise_mosm_kg,
+    );
+    calibration.start.thirst_water_l_day = units::per_h_to_per_day(thirst);
+}

@@ -118,3 +118,46 @@ fn derivative_conserves_every_species() {
         assert!(balance.abs() < 1e-12, "{} leaks {balance}", sp.name());
     }
 }
+
+/// A healthy man free to drink: drinking at will takes the place of part of
+/// the habitual drinks, the start stays steady, and the thirst onset lies
+/// near the own vasopressin threshold (Thompson et al., Clin Sci 1986:
+/// thresholds for thirst and vasopressin are similar).
+#[test]
+fn drinking_at_will_takes_the_place_of_habitual_drinks_and_the_start_stays_steady() {
+    let params = Params {
+        thirst_enabled: 1.0,
+        ..Params::default()
+    };
+    let patient = Patient::healthy(Sex::Male, 25.0, 75.0)
+        .resolve(&params)
+        .unwrap();
+    let (model, body) = Model::new(&patient, &params, Switches::default()).unwrap();
+    let u = model.habitual_inputs();
+    let f = model.fluxes(&body.y, &u);
+    let st = &model.calibration.start;
+    // The total intake is the habitual 2.5 L/day (EFSA 2010, men).
+    let total_l_day = 24.0 * (u.oral_water_l_h + f.thirst_water_l_h);
+    assert!((total_l_day - 2.5).abs() < 1e-9, "{total_l_day}");
+    assert!(f.thirst_water_l_h > 0.0);
+    assert!((24.0 * f.thirst_water_l_h - st.thirst_water_l_day).abs() < 1e-12);
+    // Food water stays food: at most the drinks are drunk at will.
+    assert!(u.oral_water_l_h >= params.food_water_l_day / 24.0 - 1e-12);
+    let onset = st.thirst_onset_mosm_kg;
+    let own = model.calibration.avp_threshold_mosm_kg;
+    assert!(onset >= own + params.thirst_offset_mosm_kg - 1e-9);
+    assert!(onset - own < 3.0, "onset {onset}, own threshold {own}");
+    let mut dy = vec![0.0; N_STATES];
+    model.derivative(&body.y, &u, &mut dy);
+    for (i, (rate, value)) in dy.iter().zip(&body.y).enumerate().take(S::InWater as usize) {
+        assert!(
+            rate.abs() / value.abs().max(1e-3) < 1e-9,
+            "{} drifts: {rate}",
+            crate::body::STATE_NAMES[i]
+        );
+    }
+    // Plasma diluted by 2 mOsm/kg: thirst stops.
+    let mut diluted = body.y.clone();
+    diluted[S::PlasmaL as usize] *= 1.01;
+    assert_eq!(model.fluxes(&diluted, &u).thirst_water_l_h, 0.0);
+}

@@ -53,6 +53,29 @@ pub fn thirst_drinking_l_h(plasma_osm: f64, threshold: f64, gain: f64, max_l_h: 
     max_l_h.min(gain * smooth_ramp(plasma_osm - threshold, THIRST_CORNER_MOSM_KG))
 }
 
+/// The plasma osmolality at which thirst begins, mOsm/kg: the threshold
+/// given, or (`given` 0) the person's own vasopressin threshold plus
+/// `offset` (the two thresholds lie close together: Thompson et al., Clin
+/// Sci 1986), raised by `raise` where the start needs it (see
+/// [`onset_for_drinking`]).
+pub fn thirst_onset_mosm_kg(given: f64, own_avp_threshold: f64, offset: f64, raise: f64) -> f64 {
+    if given > 0.0 {
+        given
+    } else {
+        own_avp_threshold + offset + raise
+    }
+}
+
+/// The thirst onset at which thirst drinking at `plasma_osm` is exactly
+/// `drinking_l_h` (below the cap): the inverse of
+/// [`thirst_drinking_l_h`] in its threshold.
+pub fn onset_for_drinking(plasma_osm: f64, drinking_l_h: f64, gain: f64) -> f64 {
+    let w = THIRST_CORNER_MOSM_KG;
+    let r = (drinking_l_h / gain).max(0.0);
+    let x = if r >= w { r } else { 2.0 * (r * w).sqrt() - w };
+    plasma_osm - x
+}
+
 /// How the start's water balance was closed.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum ThresholdFit {
@@ -120,6 +143,21 @@ mod tests {
     fn thirst_is_capped() {
         assert_eq!(thirst_drinking_l_h(290.0, 298.0, 0.1, 1.0), 0.0);
         assert_eq!(thirst_drinking_l_h(400.0, 298.0, 0.1, 1.0), 1.0);
+    }
+
+    #[test]
+    fn thirst_onset_follows_the_own_vasopressin_threshold_unless_given() {
+        assert_eq!(thirst_onset_mosm_kg(298.0, 284.0, 0.9, 0.0), 298.0);
+        assert!((thirst_onset_mosm_kg(0.0, 286.0, 0.9, 0.25) - 287.15).abs() < 1e-12);
+    }
+
+    #[test]
+    fn the_onset_for_a_drinking_rate_inverts_thirst() {
+        for drinking in [0.0, 0.01, 0.03, 0.05, 0.075, 0.2] {
+            let onset = onset_for_drinking(290.0, drinking, 0.1);
+            let back = thirst_drinking_l_h(290.0, onset, 0.1, 1.0);
+            assert!((back - drinking).abs() < 1e-12, "{drinking}: {back}");
+        }
     }
 
     #[test]

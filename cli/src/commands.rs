@@ -300,14 +300,14 @@ pub fn patient(args: PatientOptions) -> Result<()> {
         .collect();
     rows.push(vec![
         "Glomerular filtration (calibrated)".into(),
-        format!("{} mL/min", fixed(cal.gfr_l_h * 1000.0 / 60.0, 0)),
+        format!("{} mL/min", fixed(cal.gfr_l_h() * 1000.0 / 60.0, 0)),
     ]);
     rows.push(vec![
         "Urine osmolality range".into(),
         format!(
             "{}–{} mOsm/kg",
-            fixed(cal.urine_osm_min, 0),
-            fixed(cal.urine_osm_max, 0)
+            fixed(cal.urine_osm_range().0, 0),
+            fixed(cal.urine_osm_range().1, 0)
         ),
     ]);
     print!("{}", table(&["quantity", "value"], &rows));

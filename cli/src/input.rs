@@ -236,7 +236,7 @@ impl StartSummary {
     pub fn of(sim: &Simulation) -> StartSummary {
         let c = &sim.model().calibration;
         StartSummary {
-            osmotic_threshold_mosm_kg: c.avp_threshold_mosm_kg,
+            osmotic_threshold_mosm_kg: c.avp_threshold_mosm_kg(),
             balance: c.start,
         }
     }
@@ -325,7 +325,7 @@ pub fn patient_rows(sim: &Simulation) -> Vec<Row> {
         ),
         row(
             "Osmotic threshold (this patient)",
-            format!("{} mOsm/kg", fixed(c.avp_threshold_mosm_kg, 1)),
+            format!("{} mOsm/kg", fixed(c.avp_threshold_mosm_kg(), 1)),
         ),
         row(
             "Drinking at will (thirst)",

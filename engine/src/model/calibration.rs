@@ -17,120 +17,143 @@ use crate::units;
 use serde::Serialize;
 
 /// Patient-specific constants derived once at the start.
+///
+/// Its values are the model's own (read with the accessors below, or as a
+/// whole in `tidewater patient --json` and every dump); only
+/// [`Calibration::start`], the balance of the start in a clinician's units,
+/// is open.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Calibration {
     /// Body weight, kg.
-    pub weight_kg: f64,
+    pub(crate) weight_kg: f64,
     /// Age, years.
-    pub age_years: f64,
+    pub(crate) age_years: f64,
     /// van't Hoff factor, mmHg per mOsm/L.
-    pub rt: f64,
+    pub(crate) rt: f64,
     /// Effective osmolality the brain is adapted to at rest, mOsm/L.
-    pub reference_tonicity: f64,
+    pub(crate) reference_tonicity: f64,
     /// Brain-cell water at normal volume, L.
-    pub brain_normal_l: f64,
+    pub(crate) brain_normal_l: f64,
     /// Fixed (non-adaptive) brain osmoles, mOsm.
-    pub brain_fixed_mosm: f64,
+    pub(crate) brain_fixed_mosm: f64,
     /// Fixed tissue-cell osmoles other than potassium salts, mOsm.
-    pub cell_fixed_mosm: f64,
+    pub(crate) cell_fixed_mosm: f64,
     /// Plasma solids (protein volume) at the start, L.
-    pub plasma_solids_l: f64,
+    pub(crate) plasma_solids_l: f64,
     /// Red-cell solids at the start, L.
-    pub red_cell_solids_l: f64,
+    pub(crate) red_cell_solids_l: f64,
     /// Red-cell osmoles at the start, mOsm.
-    pub red_cell_osmoles0: f64,
+    pub(crate) red_cell_osmoles0: f64,
     /// Plasma protein at the start (albumin + globulins), g.
-    pub plasma_protein0_g: f64,
+    pub(crate) plasma_protein0_g: f64,
     /// Blood volume at the start, L.
-    pub blood_volume0_l: f64,
+    pub(crate) blood_volume0_l: f64,
     /// Normal extracellular water (the start plus any deficit), L: the
     /// reference of volume natriuresis.
-    pub ecf0_l: f64,
+    pub(crate) ecf0_l: f64,
     /// Normal blood volume (the start plus any deficit), L: the reference
     /// of volume-driven vasopressin.
-    pub blood_volume_normal_l: f64,
+    pub(crate) blood_volume_normal_l: f64,
     /// Most dilute urine (narrowed when GFR is low), mOsm/kg.
-    pub urine_osm_min: f64,
+    pub(crate) urine_osm_min: f64,
     /// Tissue-cell hydraulic conductance, L/h/mmHg.
-    pub cell_conductance: f64,
+    pub(crate) cell_conductance: f64,
     /// Brain-cell hydraulic conductance, L/h/mmHg.
-    pub brain_conductance: f64,
+    pub(crate) brain_conductance: f64,
     /// Red-cell hydraulic conductance, L/h/mmHg.
-    pub red_cell_conductance: f64,
+    pub(crate) red_cell_conductance: f64,
     /// Urea permeability-surface product, interstitium ↔ cells, L/h.
-    pub urea_ps_cells: f64,
+    pub(crate) urea_ps_cells: f64,
     /// Urea permeability-surface product, plasma ↔ red cells, L/h.
-    pub urea_ps_red_cells: f64,
+    pub(crate) urea_ps_red_cells: f64,
     /// Small-solute permeability-surface product of capillaries, L/h.
-    pub small_solute_ps: f64,
+    pub(crate) small_solute_ps: f64,
     /// Cell/interstitium potassium concentration ratio at equilibrium.
-    pub k_ratio: f64,
+    pub(crate) k_ratio: f64,
     /// Potassium shift constant, L/h.
-    pub k_rate: f64,
+    pub(crate) k_rate: f64,
     /// Interstitial globulins (constant), g.
-    pub interstitial_globulin_g: f64,
+    pub(crate) interstitial_globulin_g: f64,
     /// Filtration coefficient, L/h/mmHg.
-    pub kf_l_h_mmhg: f64,
+    pub(crate) kf_l_h_mmhg: f64,
     /// Capillary pressure at rest, mmHg (solved so filtration = lymph).
-    pub capillary0_mmhg: f64,
+    pub(crate) capillary0_mmhg: f64,
     /// Capillary pressure rise per litre of blood volume, mmHg/L.
-    pub blood_elastance_mmhg_l: f64,
+    pub(crate) blood_elastance_mmhg_l: f64,
     /// Interstitial pressure–volume curve.
-    pub interstitium: capillary::InterstitialCompliance,
+    pub(crate) interstitium: capillary::InterstitialCompliance,
     /// Lymph plateau flow, L/h.
-    pub lymph_max_l_h: f64,
+    pub(crate) lymph_max_l_h: f64,
     /// Lymph half-pressure, mmHg.
-    pub lymph_half_mmhg: f64,
+    pub(crate) lymph_half_mmhg: f64,
     /// Lymph slope scale, mmHg.
-    pub lymph_scale_mmhg: f64,
+    pub(crate) lymph_scale_mmhg: f64,
     /// Lymph flow at rest, L/h.
-    pub lymph0_l_h: f64,
+    pub(crate) lymph0_l_h: f64,
     /// Fraction of interstitial albumin returned per hour at resting lymph
     /// flow, 1/h (equals escape at rest).
-    pub albumin_return_per_h: f64,
+    pub(crate) albumin_return_per_h: f64,
     /// Glucose set point, mmol/L.
-    pub glucose_set_point: f64,
+    pub(crate) glucose_set_point: f64,
     /// Endogenous glucose production, mmol/h.
-    pub glucose_production_mmol_h: f64,
+    pub(crate) glucose_production_mmol_h: f64,
     /// Urea generation, mmol/h.
-    pub urea_generation_mmol_h: f64,
+    pub(crate) urea_generation_mmol_h: f64,
     /// Water of oxidation, L/h.
-    pub metabolic_water_l_h: f64,
+    pub(crate) metabolic_water_l_h: f64,
     /// Insensible loss, L/h.
-    pub insensible_l_h: f64,
+    pub(crate) insensible_l_h: f64,
     /// GFR, L/h.
-    pub gfr_l_h: f64,
+    pub(crate) gfr_l_h: f64,
     /// Resting sodium excretion, mmol/h.
-    pub na_excretion0_mmol_h: f64,
+    pub(crate) na_excretion0_mmol_h: f64,
     /// Largest sodium excretion, mmol/h.
-    pub na_excretion_max_mmol_h: f64,
+    pub(crate) na_excretion_max_mmol_h: f64,
     /// Resting potassium excretion, mmol/h.
-    pub k_excretion0_mmol_h: f64,
+    pub(crate) k_excretion0_mmol_h: f64,
     /// Plasma potassium at the start, mmol/L.
-    pub k0_mmol_l: f64,
+    pub(crate) k0_mmol_l: f64,
     /// Plasma sodium at the start, mmol/L.
-    pub na0_mmol_l: f64,
+    pub(crate) na0_mmol_l: f64,
     /// Fractional excretion of filtered urea.
-    pub urea_fractional_excretion: f64,
+    pub(crate) urea_fractional_excretion: f64,
     /// Maximal urine osmolality at this age and GFR, mOsm/kg.
-    pub urine_osm_max: f64,
+    pub(crate) urine_osm_max: f64,
     /// Gut absorption rate constant (first order), 1/h.
-    pub gut_absorption_per_h: f64,
+    pub(crate) gut_absorption_per_h: f64,
     /// Habitual water intake, L/h.
-    pub habitual_water_l_h: f64,
+    pub(crate) habitual_water_l_h: f64,
     /// Habitual sodium intake, mmol/h.
-    pub habitual_na_mmol_h: f64,
+    pub(crate) habitual_na_mmol_h: f64,
     /// Habitual potassium intake, mmol/h.
-    pub habitual_k_mmol_h: f64,
+    pub(crate) habitual_k_mmol_h: f64,
     /// This patient's osmotic threshold for vasopressin, mOsm/kg (solved at
     /// the start so that the habitual intake is in balance).
-    pub avp_threshold_mosm_kg: f64,
+    pub(crate) avp_threshold_mosm_kg: f64,
     /// How far the start raised the thirst onset above the own vasopressin
     /// threshold plus the offset, mOsm/kg: only when thirst at the start
     /// would drink more than the habitual drinks (docs/model.md, thirst).
-    pub thirst_onset_raise_mosm_kg: f64,
+    pub(crate) thirst_onset_raise_mosm_kg: f64,
     /// How the start was made steady, in the units a clinician reads.
     pub start: StartBalance,
+}
+
+impl Calibration {
+    /// This patient's osmotic threshold for vasopressin, mOsm/kg.
+    pub fn avp_threshold_mosm_kg(&self) -> f64 {
+        self.avp_threshold_mosm_kg
+    }
+
+    /// Glomerular filtration rate, L/h.
+    pub fn gfr_l_h(&self) -> f64 {
+        self.gfr_l_h
+    }
+
+    /// The least and greatest urine osmolality this kidney makes, mOsm/kg
+    /// (the least rises with age).
+    pub fn urine_osm_range(&self) -> (f64, f64) {
+        (self.urine_osm_min, self.urine_osm_max)
+    }
 }
 
 /// Where the habitual water intake of the start came from.

@@ -24,7 +24,7 @@ p{line-height:1.45} .muted{color:#5b6470;font-size:13px}
 .tile b{display:block;font-size:24px} .tile span{font-size:13px;color:#5b6470}
 table{border-collapse:collapse;width:100%;font-size:13px;margin:6px 0}
 th,td{border-bottom:1px solid #e6e9ec;padding:4px 6px;text-align:left;vertical-align:top}
-th{background:#f1f3f5} th.num,td.num{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
+th{background:#f1f3f5} th.num,td.num{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap} td.value{text-align:right;font-variant-numeric:tabular-nums}
 a{color:#165480}
 .chip{display:inline-block;border-radius:10px;padding:1px 8px;font-size:12px;font-weight:600;white-space:nowrap}
 .pass{background:#e3f1e8;color:#1f6b3f} .fail{background:#f9e1de;color:#a3261b}
@@ -382,7 +382,7 @@ pub fn render(dossier: &Dossier, outcome: &Outcome) -> String {
     for (c, r) in dossier.checks.iter().zip(&outcome.results) {
         let _ = write!(
             out,
-            "<tr><td><a href=\"#{0}\">{0}</a></td><td>{1}</td><td class=\"num\">{2} {3}</td><td class=\"num\">[{4}, {5}]</td><td class=\"num\">{6}</td><td>{7}</td></tr>\n",
+            "<tr><td><a href=\"#{0}\">{0}</a></td><td>{1}</td><td class=\"value\">{2} {3}</td><td class=\"num\">[{4}, {5}]</td><td class=\"num\">{6}</td><td>{7}</td></tr>\n",
             escape(&c.id),
             escape(&c.topic),
             escape(&num(c.published.value)),

@@ -45,7 +45,7 @@ fn unknown_words_name_their_field_and_line() {
             4,
         ),
     ] {
-        let msg = tidewater::patient::patient_from_yaml(yaml, "p.yaml")
+        let msg = tidewater::patient_from_yaml(yaml, "p.yaml")
             .unwrap_err()
             .to_string();
         assert!(msg.contains(&format!("p.yaml:{line}")), "{msg}");

@@ -4,8 +4,8 @@
 
 use tidewater::{Cause, Onset, Sex};
 
-use tidewater::body::S;
 use tidewater::physiology::osmoregulation;
+use tidewater::S;
 use tidewater::{formulas, Action, FluidLibrary, Patient, Plan, Route, Simulation, Stream};
 use tidewater_checks::*;
 

@@ -20,7 +20,7 @@ fn check_steady(patient: Patient, switches: Switches) {
             assert!(
                 rel < 0.005,
                 "{} moved {:.3} % by {} h",
-                tidewater::body::STATE_NAMES[i],
+                tidewater::STATE_NAMES[i],
                 rel * 100.0,
                 s.time_h
             );

@@ -5,7 +5,7 @@
 
 use tidewater::Sex;
 
-use tidewater::trajectory::interpolate;
+use tidewater::interpolate;
 use tidewater::{units, Patient, Plan};
 use tidewater_checks::*;
 

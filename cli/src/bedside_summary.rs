@@ -215,7 +215,7 @@ impl FormulaSummary {
             .map(|&t| CoursePoint {
                 time_h: t,
                 formula_na_change_mmol_l: r(bedside::formula_change_at(traj, t)),
-                simulated_na_change_mmol_l: r(tidewater::trajectory::interpolate(
+                simulated_na_change_mmol_l: r(tidewater::interpolate(
                     &times,
                     &traj.na_change_since_start,
                     t,

@@ -13,7 +13,7 @@ use anyhow::{Context, Result};
 use serde_json::json;
 use std::path::{Path, PathBuf};
 use std::time::Instant;
-use tidewater::patient::patient_from_yaml;
+use tidewater::patient_from_yaml;
 use tidewater::{reference, FluidLibrary, Patient, Plan, Simulation, Species, CAUTION, PARAMETERS};
 
 /// `tidewater run`: run, write the report, tell how it went. Returns

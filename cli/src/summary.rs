@@ -162,7 +162,7 @@ pub struct StreamTotalSummary {
 }
 
 impl StreamTotalSummary {
-    fn of(t: &tidewater::trajectory::StreamTotal) -> Self {
+    fn of(t: &tidewater::StreamTotal) -> Self {
         let r = |x: f64| round_sig(x, DIGITS);
         StreamTotalSummary {
             stream: t.label.clone(),
@@ -228,7 +228,7 @@ pub struct Summary {
     pub below_start: Option<BelowStartSummary>,
     /// Warning: serum sodium left the range the model was built for, so
     /// what follows is extrapolation.
-    pub outside_model_range: Option<tidewater::model_range::OutsideRange>,
+    pub outside_model_range: Option<tidewater::OutsideRange>,
     /// Mass balance per species.
     pub mass_balance: Vec<BalanceSummary>,
     /// What each stream gave or took over the run, in the order the
@@ -302,7 +302,7 @@ fn status_name(s: GoalStatus) -> &'static str {
 }
 
 /// Words for the situation that picks the rules: start, onset, symptoms.
-fn describe_situation(s: &tidewater::Situation) -> String {
+fn describe_situation(s: &tidewater::limits::Situation) -> String {
     let start = if s.start_na_mmol_l < tidewater::limits::HYPONATREMIA_BELOW_MMOL_L {
         "hyponatremia"
     } else if s.start_na_mmol_l > tidewater::limits::HYPERNATREMIA_ABOVE_MMOL_L {
@@ -311,13 +311,13 @@ fn describe_situation(s: &tidewater::Situation) -> String {
         "normal sodium"
     };
     let symptoms = match s.symptoms {
-        tidewater::patient::Symptoms::None => "no symptoms given",
-        tidewater::patient::Symptoms::Moderate => "moderately severe symptoms",
-        tidewater::patient::Symptoms::Severe => "severe symptoms",
+        tidewater::Symptoms::None => "no symptoms given",
+        tidewater::Symptoms::Moderate => "moderately severe symptoms",
+        tidewater::Symptoms::Severe => "severe symptoms",
     };
     let onset = match s.onset {
-        tidewater::patient::Onset::Acute => "acute",
-        tidewater::patient::Onset::Chronic => "chronic",
+        tidewater::Onset::Acute => "acute",
+        tidewater::Onset::Chronic => "chronic",
     };
     format!("{start}, {onset}, {symptoms}")
 }
@@ -425,15 +425,13 @@ impl Summary {
                 lowest_mmol_l: round_sig(b.lowest_mmol_l, DIGITS),
                 lowest_time_h: round_sig(b.lowest_time_h, DIGITS),
             }),
-            outside_model_range: traj
-                .outside_range
-                .map(|w| tidewater::model_range::OutsideRange {
-                    first_time_h: round_sig(w.first_time_h, DIGITS),
-                    first_mmol_l: round_sig(w.first_mmol_l, DIGITS),
-                    extreme_mmol_l: round_sig(w.extreme_mmol_l, DIGITS),
-                    extreme_time_h: round_sig(w.extreme_time_h, DIGITS),
-                    ..w
-                }),
+            outside_model_range: traj.outside_range.map(|w| tidewater::OutsideRange {
+                first_time_h: round_sig(w.first_time_h, DIGITS),
+                first_mmol_l: round_sig(w.first_mmol_l, DIGITS),
+                extreme_mmol_l: round_sig(w.extreme_mmol_l, DIGITS),
+                extreme_time_h: round_sig(w.extreme_time_h, DIGITS),
+                ..w
+            }),
             given: traj
                 .stream_totals
                 .iter()
@@ -469,7 +467,7 @@ impl Summary {
 }
 /// The warning that serum sodium left the range the model was built for,
 /// as the terminal and the report say it (after "warning: ").
-pub fn outside_range_text(w: &tidewater::model_range::OutsideRange) -> String {
+pub fn outside_range_text(w: &tidewater::OutsideRange) -> String {
     format!(
         "serum sodium left the range the model was built for ({}-{} mmol/L) at {} h ({} mmol/L; farthest {} mmol/L at {} h): what follows is extrapolation, not a prediction",
         fixed(w.low_mmol_l, 0),

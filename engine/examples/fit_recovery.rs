@@ -21,10 +21,10 @@
 use std::path::Path;
 use std::sync::atomic::{AtomicUsize, Ordering};
 use tidewater::fit::{self, residuals::model_value, FitModel};
+use tidewater::interpolate;
 use tidewater::observations::{Lab, Observations, ObservedRow};
 use tidewater::scenario::Scenario;
 use tidewater::sweep::{normal_quantile, SplitMix64};
-use tidewater::trajectory::interpolate;
 
 /// An invented patient whose inappropriate antidiuresis ends at a time the
 /// fit does not know (the scenario of `scenarios/labs_settling.rhai`).

@@ -57,7 +57,7 @@ pub enum GoalStatus {
 }
 
 /// A goal judged on a run. Not a limit crossing: it does not count as a
-/// [`crate::Flag`].
+/// [`crate::limits::Flag`].
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct GoalResult {
     /// The goal.

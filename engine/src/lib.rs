@@ -19,30 +19,33 @@
 //! * A [`Plan`] holds the patient, the parameters, planned [`Event`]s
 //!   (start or stop a [`Stream`]: an infusion, a drink, a loss), the check
 //!   interval for a [`Controller`] (a protocol's rules), sampling and the
-//!   guideline limits. These words of a plan live in [`plan`]; nothing
+//!   guideline limits. These words of a plan live in `plan/`; nothing
 //!   there integrates.
-//! * [`Simulation`] (in [`simulate`], the solver driver) integrates the
+//! * [`Simulation`] (in `simulate/`, the solver driver) integrates the
 //!   model over the plan with an implicit BDF method (diffsol), stopping
-//!   exactly at every input change and check. The plan's types are
-//!   re-exported from [`simulate`] too.
+//!   exactly at every input change and check.
 //! * The result is a [`Trajectory`]: samples with derived labs
 //!   ([`Observation`]), sodium changes over trailing 24 h and 48 h, guideline
-//!   [`Flag`]s, the guideline goals judged ([`GoalResult`]), the
-//!   fall-below-start warning ([`BelowStart`]) and a mass-balance ledger
+//!   [`limits::Flag`]s, the guideline goals judged ([`goals::GoalResult`]), the
+//!   fall-below-start warning ([`goals::BelowStart`]) and a mass-balance ledger
 //!   per species.
 //!
 //! ## Rooms
+//!
+//! The types of the rooms in plain code (`model/`, `plan/`, ...) are
+//! re-exported here at the crate root, each under one path; the rooms
+//! linked are public namespaces of their own.
 //!
 //! | module | what it holds |
 //! |---|---|
 //! | [`params`] | every physiological parameter: name, unit, default, range, source |
 //! | [`physiology`] | one file of pure functions per mechanism: cell membranes, capillaries and lymph, the kidney, osmoregulation (vasopressin, thirst), blood volume, the gut, drugs, glucose, potassium, brain adaptation |
-//! | [`model`] | the wiring: inputs, the resting body and its calibration, the steady start, fluxes, the right-hand side, observations, changes during a run |
-//! | [`body`] | the state layout and the mass-balance ledger |
-//! | [`patient`], [`causes`], [`fluids`] | what the user describes: the patient, the cause of the disorder, the fluid library |
-//! | [`plan`] | the words of a plan: streams, actions, events, controllers |
-//! | [`simulate`] | the solver driver: schedule, diffsol problem, the run loop |
-//! | [`trajectory`], [`limits`], [`goals`] | results, derived series, guideline flags and goals |
+//! | `model/` | the wiring: inputs, the resting body and its calibration, the steady start, fluxes, the right-hand side, observations, changes during a run |
+//! | `body` | the state layout and the mass-balance ledger |
+//! | `patient`, `causes`, `fluids` | what the user describes: the patient, the cause of the disorder, the fluid library |
+//! | `plan/` | the words of a plan: streams, actions, events, controllers |
+//! | `simulate/` | the solver driver: schedule, diffsol problem, the run loop |
+//! | `trajectory`, [`limits`], [`goals`] | results, derived series, guideline flags and goals |
 //! | [`scenario`] | Rhai scripts to plans, rules and expectations |
 //! | [`sweep`] | sweep specs, designs, parallel runs, result files, summaries |
 //! | [`validation`] | the dossier of published human data and its metrics |
@@ -78,48 +81,50 @@
 #![warn(missing_docs)]
 
 pub mod bedside;
-pub mod body;
-pub mod causes;
+mod body;
+mod causes;
 pub mod dump;
-pub mod error;
+mod error;
 pub mod fit;
-pub mod fluids;
+mod fluids;
 pub mod formulas;
 pub mod goals;
 pub mod limits;
-pub mod model;
-pub mod model_range;
+mod model;
+mod model_range;
 pub(crate) mod newton_lu;
 pub(crate) mod numeric;
 pub mod observations;
 pub mod params;
-pub mod patient;
+mod patient;
 pub mod physiology;
-pub mod plan;
+mod plan;
 pub mod planner;
 pub mod reference;
 pub mod scenario;
-pub mod simulate;
+mod simulate;
 pub mod suggest;
 pub mod sweep;
 pub mod textfile;
-pub mod trajectory;
+mod trajectory;
 pub mod units;
 pub mod validation;
 pub mod yaml;
 
-pub use body::{Body, Species, N_STATES_BODY, S};
+pub use body::{Body, Species, N_STATES_BODY, S, STATE_NAMES};
 pub use causes::Cause;
 pub use error::{InputError, SimulationError};
 pub use fluids::{Fluid, FluidLibrary};
-pub use goals::{BelowStart, GoalResult, GoalStatus};
-pub use limits::{Flag, LimitChoice, Situation};
 pub use model::{Inputs, Model, Observation, StartBalance, Switches, WaterIntakeSource};
+pub use model_range::OutsideRange;
 pub use params::{Params, PARAMETERS};
-pub use patient::{Onset, Patient, ResolvedPatient, Sex, Symptoms, WaterMethod};
+pub use patient::{
+    numeric_patient_fields, patient_from_yaml, Onset, Patient, ResolvedPatient, Sex, Symptoms,
+    WaterMethod, Word, PATIENT_FIELDS, TEXT_PATIENT_FIELDS,
+};
 pub use plan::{Action, Controller, Event, Plan, Route, Snapshot, Stream, Tolerances};
 pub use simulate::Simulation;
-pub use trajectory::{Sample, SolverStats, Trajectory};
+pub use trajectory::{interpolate, Sample, SolverStats, StreamTotal, Trajectory};
 
 /// The caution every report carries.
 pub const CAUTION: &str =

@@ -159,14 +159,16 @@ pub fn interpolate(times: &[f64], values: &[f64], t: f64) -> f64 {
     values[j - 1] + (values[j] - values[j - 1]) * (t - t0) / (t1 - t0)
 }
 
-/// Change over a trailing window: `v(t) − v(max(t₀, t − window))`.
-pub fn trailing_change(times: &[f64], values: &[f64], j: usize, window_h: f64) -> f64 {
+/// Change over a trailing window: `v(t) − v(max(t₀, t − window))` (the
+/// definition [`trailing_changes`] is tested against).
+#[cfg(test)]
+fn trailing_change(times: &[f64], values: &[f64], j: usize, window_h: f64) -> f64 {
     let t = times[j];
     let from = (t - window_h).max(times[0]);
     values[j] - interpolate(&times[..=j], &values[..=j], from)
 }
 
-/// [`trailing_change`] at every sample, in one pass: the window's start
+/// The change over a trailing window at every sample, in one pass: the window's start
 /// only moves forward, so its place among the samples is found by walking
 /// rather than by a search per sample. Same values, bit for bit.
 pub fn trailing_changes(times: &[f64], values: &[f64], window_h: f64) -> Vec<f64> {

@@ -25,7 +25,7 @@ use std::path::{Path, PathBuf};
 use std::sync::mpsc;
 use std::time::{Duration, Instant};
 use tidewater::observations::Observations;
-use tidewater::patient::patient_from_yaml;
+use tidewater::patient_from_yaml;
 use tidewater::scenario::Scenario;
 use tidewater::sweep::SweepSpec;
 use tidewater::{FluidLibrary, Params};

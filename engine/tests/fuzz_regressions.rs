@@ -9,7 +9,7 @@
 
 use std::sync::mpsc;
 use std::time::Duration;
-use tidewater::patient::patient_from_yaml;
+use tidewater::patient_from_yaml;
 use tidewater::sweep::SweepSpec;
 use tidewater::FluidLibrary;
 

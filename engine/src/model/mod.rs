@@ -44,8 +44,7 @@ mod start;
 mod tests;
 
 pub use calibration::{Calibration, StartBalance, WaterIntakeSource};
-pub use change::{check_change, check_resolvable, ChangeEffects, READ_AS_IT_RUNS, RECALIBRATED};
-pub use fluxes::Fluxes;
+pub use change::{check_change, check_resolvable};
 pub use inputs::{Inputs, Switches, N_INPUTS};
 pub use observe::Observation;
 pub use start::habitual_water_l_day;

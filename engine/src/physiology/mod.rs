@@ -1,6 +1,6 @@
 //! The physiology: one module per mechanism, each a set of pure functions of
 //! concentrations, volumes and parameters. None of them knows the state
-//! layout or the solver; [`crate::model`] wires them together.
+//! layout or the solver; `crate::model` wires them together.
 
 pub mod blood_volume;
 pub mod brain;

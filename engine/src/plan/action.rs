@@ -13,7 +13,7 @@ pub enum Action {
     /// Stop every running stream.
     StopAll,
     /// Change a parameter from now on (only those the model reads as it
-    /// runs or recalibrates: [`crate::model::check_change`]).
+    /// runs or recalibrates: `crate::model::check_change`).
     SetParam {
         /// Parameter name.
         name: String,

@@ -31,9 +31,7 @@ mod segments;
 #[cfg(test)]
 mod tests;
 
-pub use crate::plan::{
-    Action, Controller, Event, NoController, Plan, Route, Snapshot, Stream, Tolerances,
-};
+pub use crate::plan::{Action, Controller, Event, NoController, Plan, Stream};
 
 use crate::body::Body;
 use crate::error::SimulationError;

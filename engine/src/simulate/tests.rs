@@ -6,6 +6,7 @@ use super::*;
 use crate::error::SimulationError;
 use crate::fluids::FluidLibrary;
 use crate::patient::Patient;
+use crate::plan::Snapshot;
 
 #[test]
 fn healthy_adult_run_balances_and_stays_steady() {

@@ -14,8 +14,8 @@ use anyhow::Result;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 use tidewater::goals::GoalStatus;
+use tidewater::interpolate;
 use tidewater::limits::{Direction, Severity};
-use tidewater::trajectory::interpolate;
 use tidewater::Trajectory;
 
 /// A value between samples: linear ([`interpolate`]), except next to a

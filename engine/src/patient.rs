@@ -153,12 +153,12 @@ fn word_out_opt<W: Word, S: serde::Serializer>(w: &Option<W>, s: S) -> Result<S:
 }
 
 /// Match `text` (trimmed, any case, `-` and spaces read as `_`) against
-/// the accepted words of a field.
-fn choose<T: Copy>(
+/// the accepted words of a field; the error lists each choice's canonical
+/// word (the first listed for it).
+fn choose<T: Copy + PartialEq>(
     field: &str,
     text: &str,
-    words: &[(&str, T)],
-    expected: &str,
+    words: &[(&'static str, T)],
 ) -> Result<T, InputError> {
     let key = text.trim().to_ascii_lowercase().replace(['-', ' '], "_");
     words
@@ -168,67 +168,42 @@ fn choose<T: Copy>(
         .ok_or_else(|| InputError::BadChoice {
             field: field.into(),
             value: text.into(),
-            expected: expected.into(),
+            expected: words
+                .iter()
+                .filter(|(w, t)| canonical(words, *t) == *w)
+                .map(|(w, _)| *w)
+                .collect::<Vec<_>>()
+                .join(", "),
         })
 }
 
-impl Word for Sex {
-    fn parse(text: &str) -> Result<Self, InputError> {
-        use Sex::*;
-        let words = [("male", Male), ("man", Male), ("m", Male)];
-        let more = [("female", Female), ("woman", Female), ("f", Female)];
-        let all: Vec<_> = words.into_iter().chain(more).collect();
-        choose("sex", text, &all, "male, female")
-    }
-    fn word(self) -> &'static str {
-        match self {
-            Sex::Male => "male",
-            Sex::Female => "female",
-        }
-    }
+/// The first word listed for `choice`.
+fn canonical<T: PartialEq>(words: &[(&'static str, T)], choice: T) -> &'static str {
+    words
+        .iter()
+        .find(|(_, t)| *t == choice)
+        .map_or("", |(w, _)| w)
 }
 
-impl Word for Onset {
-    fn parse(text: &str) -> Result<Self, InputError> {
-        let words = [("acute", Onset::Acute), ("chronic", Onset::Chronic)];
-        choose("onset", text, &words, "acute, chronic")
-    }
-    fn word(self) -> &'static str {
-        match self {
-            Onset::Acute => "acute",
-            Onset::Chronic => "chronic",
+/// A [`Word`] from its field name and its words (canonical word first,
+/// then any other accepted spelling).
+macro_rules! words {
+    ($t:ident, $field:literal, [$($w:literal => $v:ident),+ $(,)?]) => {
+        impl Word for $t {
+            fn parse(text: &str) -> Result<Self, InputError> {
+                choose($field, text, &[$(($w, $t::$v)),+])
+            }
+            fn word(self) -> &'static str {
+                canonical(&[$(($w, $t::$v)),+], self)
+            }
         }
-    }
+    };
 }
 
-impl Word for Symptoms {
-    fn parse(text: &str) -> Result<Self, InputError> {
-        use Symptoms::*;
-        let words = [("none", None), ("moderate", Moderate), ("severe", Severe)];
-        choose("symptoms", text, &words, "none, moderate, severe")
-    }
-    fn word(self) -> &'static str {
-        match self {
-            Symptoms::None => "none",
-            Symptoms::Moderate => "moderate",
-            Symptoms::Severe => "severe",
-        }
-    }
-}
-
-impl Word for WaterMethod {
-    fn parse(text: &str) -> Result<Self, InputError> {
-        use WaterMethod::*;
-        let words = [("fraction", Fraction), ("watson", Watson)];
-        choose("water_method", text, &words, "fraction, watson")
-    }
-    fn word(self) -> &'static str {
-        match self {
-            WaterMethod::Fraction => "fraction",
-            WaterMethod::Watson => "watson",
-        }
-    }
-}
+words!(Sex, "sex", ["male" => Male, "man" => Male, "m" => Male, "female" => Female, "woman" => Female, "f" => Female]);
+words!(Onset, "onset", ["acute" => Acute, "chronic" => Chronic]);
+words!(Symptoms, "symptoms", ["none" => None, "moderate" => Moderate, "severe" => Severe]);
+words!(WaterMethod, "water_method", ["fraction" => Fraction, "watson" => Watson]);
 
 impl Word for Cause {
     fn parse(text: &str) -> Result<Self, InputError> {

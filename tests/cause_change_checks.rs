@@ -78,3 +78,35 @@ at(hours(2), resolve_cause());
     assert!((after - 2.5 / 24.0).abs() < 1e-9, "{after}");
     assert!(t.at(12.0).obs.na_mmol_l > t.at(2.0).obs.na_mmol_l);
 }
+
+/// A patient free to drink who is put on a fluid restriction or nil by
+/// mouth drinks only what is allowed (common practice: a restriction is a
+/// limit on all drinking): the order ends drinking at will, so the course
+/// equals the one where thirst is switched off by hand at the same time.
+#[test]
+fn a_restriction_or_nil_by_mouth_ends_drinking_at_will() {
+    let start = r#"patient(#{ sex: "male", age_years: 30, weight_kg: 75 });
+set_param("thirst_enabled", 1.0);
+run_for(hours(24));
+"#;
+    let sodium_24h = |extra: &str| {
+        let source = format!("{start}{extra}");
+        let run = Scenario::from_source("thirst", &source, Path::new("."))
+            .unwrap_or_else(|e| panic!("{e}"))
+            .run()
+            .unwrap_or_else(|e| panic!("{e}"));
+        run.trajectory.at(24.0).obs.na_mmol_l
+    };
+    for order in ["nil_by_mouth()", "fluid_restriction(ml(500))"] {
+        let ordered = sodium_24h(&format!("at(hours(2), {order});\n"));
+        let by_hand = sodium_24h(&format!(
+            "at(hours(2), {order});\nat(hours(2), change_param(\"thirst_enabled\", 0.0));\n"
+        ));
+        let thirsty = sodium_24h(&format!(
+            "at(hours(2), {order});\nat(hours(2.01), change_param(\"thirst_enabled\", 1.0));\n"
+        ));
+        assert!((ordered - by_hand).abs() < 1e-6, "{order}: {ordered} vs {by_hand}");
+        // Drinking at will would have held sodium down.
+        assert!(ordered > thirsty + 0.5, "{order}: {ordered} vs {thirsty}");
+    }
+}

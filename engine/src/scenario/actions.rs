@@ -107,6 +107,16 @@ pub enum ActionSpec {
     StopAll,
 }
 
+/// A restriction and nil by mouth also end drinking at will for a patient
+/// who was free to drink at the start (thirst on): the patient drinks only
+/// what is allowed.
+fn no_drinking_at_will(ctx: &BuildContext) -> Option<Action> {
+    (ctx.params.thirst_enabled >= 0.5).then(|| Action::SetParam {
+        name: "thirst_enabled".into(),
+        value: 0.0,
+    })
+}
+
 /// What is needed to turn an [`ActionSpec`] into engine actions.
 #[derive(Debug, Clone)]
 pub struct BuildContext {
@@ -226,9 +236,14 @@ impl ActionSpec {
                         duration_h: None,
                     }));
                 }
+                out.extend(no_drinking_at_will(ctx));
                 return Ok(out);
             }
-            ActionSpec::NilByMouth => return Ok(vec![Action::Stop("habitual".into())]),
+            ActionSpec::NilByMouth => {
+                let mut out = vec![Action::Stop("habitual".into())];
+                out.extend(no_drinking_at_will(ctx));
+                return Ok(out);
+            }
             ActionSpec::ChangeParam { name, value } => {
                 return Ok(vec![Action::SetParam {
                     name: name.clone(),

@@ -116,7 +116,9 @@ pub use limits::{Flag, LimitChoice, Situation};
 pub use model::{Inputs, Model, Observation, StartBalance, Switches, WaterIntakeSource};
 pub use params::{Params, PARAMETERS};
 pub use patient::{Patient, ResolvedPatient};
-pub use plan::{Action, Controller, Event, Plan, Route, Snapshot, Stream, Tolerances};
+pub use plan::{
+    Action, Controller, Event, Plan, Route, SampleDetail, Snapshot, Stream, Tolerances,
+};
 pub use simulate::Simulation;
 pub use trajectory::{Sample, SolverStats, Trajectory};
 

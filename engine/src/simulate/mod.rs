@@ -32,7 +32,8 @@ mod segments;
 mod tests;
 
 pub use crate::plan::{
-    Action, Controller, Event, NoController, Plan, Route, Snapshot, Stream, Tolerances,
+    Action, Controller, Event, NoController, Plan, Route, SampleDetail, Snapshot, Stream,
+    Tolerances,
 };
 
 use crate::body::Body;

@@ -222,7 +222,8 @@ fn run_members(
                 .zip(member.values.iter())
                 .map(|(p, v)| (p.name.clone(), *v))
                 .collect();
-            let outcome = runner.run(&overrides);
+            let balance = sweep::checks_balance(spec, member.index);
+            let outcome = runner.run_member(&overrides, balance);
             let row = sweep::result_row(spec, &member, duration_h, &outcome);
             member_done();
             row + "\n"

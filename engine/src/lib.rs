@@ -122,7 +122,9 @@ pub use patient::{
     numeric_patient_fields, patient_from_yaml, Onset, Patient, ResolvedPatient, Sex, Symptoms,
     WaterMethod, Word, PATIENT_FIELDS, TEXT_PATIENT_FIELDS,
 };
-pub use plan::{Action, Controller, Event, Plan, Route, Snapshot, Stream, Tolerances};
+pub use plan::{
+    Action, Controller, Event, Plan, Route, SampleDetail, Snapshot, Stream, Tolerances,
+};
 pub use simulate::Simulation;
 pub use trajectory::{interpolate, Sample, SolverStats, StreamTotal, Trajectory};
 

@@ -20,6 +20,10 @@
 //! content − intake + output) is kept exactly. Before each factorisation the
 //! matrix is checked to have that shape; when it has not (a future model
 //! whose rates read the ledger), the whole matrix is factorised instead.
+//!
+//! The factors keep the reciprocals of the pivots, so a solve multiplies
+//! where it would divide: `x·(1/d)` may differ from `x/d` in the last bit,
+//! which is far inside the solver's tolerances.
 
 use diffsol::{LaError, LaLinearOp, Matrix, MatrixCommon, NalgebraMat, NalgebraVec, Vector};
 use diffsol_la::LinearSolver;
@@ -65,16 +69,17 @@ macro_rules! with_avx {
 
 with_avx!(
     /// In-place LU with partial pivoting. `piv[k]` is the row swapped with
-    /// row `k` at step `k` (LAPACK style: whole rows are swapped). Returns
-    /// false when a pivot is exactly zero.
-    fn factor<const N: usize>(a: &mut Square<N>, piv: &mut [usize; N]) -> bool,
+    /// row `k` at step `k` (LAPACK style: whole rows are swapped);
+    /// `recip[k]` is `1 / U[k][k]`. Returns false when a pivot is exactly
+    /// zero.
+    fn factor<const N: usize>(a: &mut Square<N>, piv: &mut [usize; N], recip: &mut [T; N]) -> bool,
     factor_avx,
     factor_kernel
 );
 
 with_avx!(
     /// Solve `(P·A = L·U)·x = b` in place.
-    fn solve<const N: usize>(lu: &Square<N>, piv: &[usize; N], b: &mut [T; N]),
+    fn solve<const N: usize>(lu: &Square<N>, piv: &[usize; N], recip: &[T; N], b: &mut [T; N]),
     solve_avx,
     solve_kernel
 );
@@ -98,7 +103,11 @@ fn sub_coupling_kernel<const N: usize>(c: &[T], x_body: &[T], x_ledger: &mut [T;
 }
 
 #[inline(always)]
-fn factor_kernel<const N: usize>(a: &mut Square<N>, piv: &mut [usize; N]) -> bool {
+fn factor_kernel<const N: usize>(
+    a: &mut Square<N>,
+    piv: &mut [usize; N],
+    recip: &mut [T; N],
+) -> bool {
     let mut regular = true;
     for k in 0..N {
         let mut p = k;
@@ -118,9 +127,11 @@ fn factor_kernel<const N: usize>(a: &mut Square<N>, piv: &mut [usize; N]) -> boo
         let d = a[k][k];
         if d == 0.0 {
             regular = false;
+            recip[k] = 0.0;
             continue;
         }
         let inv = 1.0 / d;
+        recip[k] = inv;
         for v in &mut a[k][k + 1..] {
             *v *= inv;
         }
@@ -138,7 +149,7 @@ fn factor_kernel<const N: usize>(a: &mut Square<N>, piv: &mut [usize; N]) -> boo
 }
 
 #[inline(always)]
-fn solve_kernel<const N: usize>(lu: &Square<N>, piv: &[usize; N], b: &mut [T; N]) {
+fn solve_kernel<const N: usize>(lu: &Square<N>, piv: &[usize; N], recip: &[T; N], b: &mut [T; N]) {
     for (k, &p) in piv.iter().enumerate() {
         b.swap(k, p);
     }
@@ -153,7 +164,7 @@ fn solve_kernel<const N: usize>(lu: &Square<N>, piv: &[usize; N], b: &mut [T; N]
     // U·x = z, column by column from the last.
     for k in (0..N).rev() {
         let col = &lu[k];
-        b[k] /= col[k];
+        b[k] *= recip[k];
         let bk = b[k];
         for i in 0..k {
             b[i] -= bk * col[i];
@@ -184,6 +195,9 @@ fn solve_transpose<const N: usize>(lu: &Square<N>, piv: &[usize; N], b: &mut [T;
 struct Factors<const N: usize> {
     lu: Box<Square<N>>,
     piv: [usize; N],
+    /// Reciprocals of the pivots (the diagonal of `U`): a solve multiplies
+    /// where it would divide.
+    recip: [T; N],
     regular: bool,
 }
 
@@ -192,8 +206,13 @@ impl<const N: usize> Factors<N> {
         Factors {
             lu: Box::new([[0.0; N]; N]),
             piv: [0; N],
+            recip: [0.0; N],
             regular: false,
         }
+    }
+
+    fn solve(&self, b: &mut [T; N]) {
+        solve(&self.lu, &self.piv, &self.recip, b);
     }
 
     /// Factorise the leading `N × N` block of the column-major matrix `a`
@@ -202,7 +221,7 @@ impl<const N: usize> Factors<N> {
         for (j, col) in self.lu.iter_mut().enumerate() {
             col.copy_from_slice(&a[j * n..j * n + N]);
         }
-        self.regular = factor(&mut self.lu, &mut self.piv);
+        self.regular = factor(&mut self.lu, &mut self.piv, &mut self.recip);
     }
 }
 
@@ -269,14 +288,14 @@ impl<const N_BODY: usize, const NL: usize, const N: usize> LedgerLu<N_BODY, NL, 
             if !self.body.regular {
                 return Err(singular());
             }
-            solve(&self.body.lu, &self.body.piv, leading::<N_BODY>(b));
+            self.body.solve(leading::<N_BODY>(b));
             // x_L = b_L − C·x_B.
             let (x_body, x_ledger) = b.split_at_mut(N_BODY);
             let x_ledger: &mut [T; NL] = x_ledger.try_into().expect("ledger entries");
             sub_coupling::<NL>(&self.coupling, x_body, x_ledger);
         } else {
             let full = self.regular_full()?;
-            solve(&full.lu, &full.piv, leading::<N>(b));
+            full.solve(leading::<N>(b));
         }
         if b.iter().all(|x| x.is_finite()) {
             Ok(())
@@ -350,140 +369,5 @@ impl<const N_BODY: usize, const NL: usize, const N: usize> LinearSolver<M>
 }
 
 #[cfg(test)]
-mod tests {
-    use super::*;
-    use diffsol::VectorCommon;
-
-    /// A column-major square matrix from rows.
-    fn square<const K: usize>(rows: [[T; K]; K]) -> Square<K> {
-        let mut a = [[0.0; K]; K];
-        for (i, row) in rows.iter().enumerate() {
-            for (j, &v) in row.iter().enumerate() {
-                a[j][i] = v;
-            }
-        }
-        a
-    }
-
-    fn mat_vec<const K: usize>(a: &Square<K>, x: &[T; K]) -> [T; K] {
-        let mut y = [0.0; K];
-        for (j, col) in a.iter().enumerate() {
-            for i in 0..K {
-                y[i] += col[i] * x[j];
-            }
-        }
-        y
-    }
-
-    fn mat_t_vec<const K: usize>(a: &Square<K>, x: &[T; K]) -> [T; K] {
-        let mut y = [0.0; K];
-        for (j, col) in a.iter().enumerate() {
-            y[j] = (0..K).map(|i| col[i] * x[i]).sum();
-        }
-        y
-    }
-
-    #[test]
-    fn lu_solves_a_system_that_needs_pivoting() {
-        // The first pivot is zero: rows must be swapped.
-        let a = square([
-            [0.0, 2.0, 1.0, 0.5],
-            [3.0, 1.0, 0.0, 2.0],
-            [1.0, -1.0, 4.0, 0.0],
-            [2.0, 0.0, 1.0, 5.0],
-        ]);
-        let x = [1.0, -2.0, 0.5, 3.0];
-        let mut lu = a;
-        let mut piv = [0; 4];
-        assert!(factor(&mut lu, &mut piv));
-        let mut b = mat_vec(&a, &x);
-        solve(&lu, &piv, &mut b);
-        for (got, want) in b.iter().zip(x) {
-            assert!((got - want).abs() < 1e-13, "{got} vs {want}");
-        }
-        let mut bt = mat_t_vec(&a, &x);
-        solve_transpose(&lu, &piv, &mut bt);
-        for (got, want) in bt.iter().zip(x) {
-            assert!((got - want).abs() < 1e-13, "{got} vs {want}");
-        }
-    }
-
-    #[test]
-    fn singular_matrix_is_reported() {
-        let mut a = square([[1.0, 2.0], [2.0, 4.0]]);
-        let mut piv = [0; 2];
-        assert!(!factor(&mut a, &mut piv));
-    }
-
-    /// A linear operator holding a fixed matrix.
-    struct Fixed(M);
-
-    impl LaLinearOp for Fixed {
-        type T = T;
-        type V = V;
-        type M = M;
-        type C = diffsol::NalgebraContext;
-        fn nrows(&self) -> usize {
-            self.0.nrows()
-        }
-        fn ncols(&self) -> usize {
-            self.0.ncols()
-        }
-        fn context(&self) -> &Self::C {
-            self.0.context()
-        }
-        fn matrix_inplace(&self, y: &mut M) {
-            y.copy_from(&self.0);
-        }
-    }
-
-    /// Solve with the ledger solver for a matrix given by rows, then
-    /// check `A·x = b` and `A^T·x = b` by multiplication.
-    fn check_solves(rows: [[T; 3]; 3]) -> bool {
-        let a = square(rows);
-        let mut m = M::zeros(3, 3, Default::default());
-        for (j, col) in a.iter().enumerate() {
-            for (i, &v) in col.iter().enumerate() {
-                m[(i, j)] = v;
-            }
-        }
-        let mut ls = LedgerLu::<2, 1, 3>::default();
-        let op = Fixed(m);
-        ls.set_sparsity(&op);
-        ls.set_linearisation(&op);
-        let x = [0.7, -1.3, 2.1];
-        let mut b = V::from_vec(mat_vec(&a, &x).to_vec(), Default::default());
-        ls.solve_in_place(&mut b).unwrap();
-        let mut bt = V::from_vec(mat_t_vec(&a, &x).to_vec(), Default::default());
-        ls.solve_transpose_in_place(&mut bt).unwrap();
-        for (got, want) in b.inner().as_slice().iter().zip(x) {
-            assert!((got - want).abs() < 1e-13, "{got} vs {want}");
-        }
-        for (got, want) in bt.inner().as_slice().iter().zip(x) {
-            assert!((got - want).abs() < 1e-13, "{got} vs {want}");
-        }
-        ls.ledger_shape
-    }
-
-    #[test]
-    fn ledger_shape_is_used_when_present_and_full_lu_otherwise() {
-        // Two body states and one ledger entry that reads nothing.
-        assert!(check_solves([
-            [0.0, 3.0, 0.0],
-            [2.0, 1.0, 0.0],
-            [0.5, -0.2, 1.0]
-        ]));
-        // A matrix whose body rows read the last state: solved whole.
-        assert!(!check_solves([
-            [0.0, 3.0, 0.1],
-            [2.0, 1.0, 0.0],
-            [0.5, -0.2, 1.0]
-        ]));
-        // The trailing block is not the identity: solved whole.
-        assert!(!check_solves([
-            [0.0, 3.0, 0.0],
-            [2.0, 1.0, 0.0],
-            [0.5, -0.2, 2.0]
-        ]));
-    }
-}
+#[path = "newton_lu_tests.rs"]
+mod tests;

@@ -132,7 +132,8 @@ pub struct Trajectory {
     pub below_start: Option<BelowStart>,
     /// Serum sodium left the range the model was built for.
     pub outside_range: Option<crate::model_range::OutsideRange>,
-    /// Mass balance per species.
+    /// Mass balance per species (empty when the run was asked not to work
+    /// it out, [`crate::Plan::mass_balance`]).
     pub balance: Vec<Balance>,
     /// What each stream gave or took, in the order the streams first ran.
     pub stream_totals: Vec<StreamTotal>,
@@ -208,6 +209,19 @@ impl Trajectory {
         situation: Situation,
         stats: SolverStats,
     ) -> Self {
+        Self::from_samples_with(samples, limits, situation, stats, true)
+    }
+
+    /// [`Trajectory::from_samples`], working out the mass balance (every
+    /// species at every sample) only when `balance` is true; otherwise
+    /// [`Trajectory::balance`] is left empty.
+    pub fn from_samples_with(
+        samples: Vec<Sample>,
+        limits: LimitChoice,
+        situation: Situation,
+        stats: SolverStats,
+        balance: bool,
+    ) -> Self {
         let times: Vec<f64> = samples.iter().map(|s| s.time_h).collect();
         let na: Vec<f64> = samples.iter().map(|s| s.obs.na_mmol_l).collect();
         let na0 = na.first().copied().unwrap_or(f64::NAN);
@@ -219,7 +233,7 @@ impl Trajectory {
         let below_start = goals::below_start(&times, &na, &situation);
         let outside_range = crate::model_range::sodium_outside(&times, &na);
         let balance = match (samples.first(), samples.last()) {
-            (Some(first), Some(last)) if first.y.len() == N_STATES => Species::ALL
+            (Some(first), Some(last)) if balance && first.y.len() == N_STATES => Species::ALL
                 .iter()
                 .map(|&sp| Balance {
                     species: sp.name(),

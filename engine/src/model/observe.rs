@@ -75,6 +75,55 @@ pub struct Observation {
 }
 
 impl Model {
+    /// What the state alone gives at `y`, without evaluating the flows:
+    /// the concentrations (serum sodium, potassium, glucose, urea,
+    /// albumin, osmolality, tonicity) and the volumes (with the brain-cell
+    /// volume index), each the same number [`Model::observe`] gives; the
+    /// fields that need the flows (hematocrit, blood volume, pressures,
+    /// filtration, lymph, vasopressin, urine and clearances) are NaN.
+    pub fn observe_state(&self, y: &[f64]) -> Observation {
+        let c = &self.calibration;
+        let s = |i: S| y[i as usize];
+        let v_p = s(S::PlasmaL);
+        let na = conc(s(S::NaPlasma), v_p);
+        let g = conc(s(S::GlucosePlasma), v_p);
+        let urea = conc(s(S::UreaPlasma), v_p);
+        let nan = f64::NAN;
+        Observation {
+            na_mmol_l: na,
+            k_mmol_l: conc(s(S::KPlasma), v_p),
+            glucose_mmol_l: g,
+            urea_mmol_l: urea,
+            albumin_g_l: conc(s(S::AlbuminPlasma), v_p),
+            osmolality_mosm_kg: 2.0 * na + g + urea,
+            tonicity_mosm_kg: 2.0 * na + g,
+            cells_l: s(S::CellsL),
+            red_cells_l: s(S::RedCellsL),
+            brain_l: s(S::BrainL),
+            interstitium_l: s(S::InterstitiumL),
+            plasma_l: v_p,
+            total_water_l: crate::body::total_water_l(y),
+            gut_ml: units::l_to_ml(s(S::GutWater)),
+            brain_volume_index: s(S::BrainL) / c.brain_normal_l,
+            hematocrit: nan,
+            blood_volume_l: nan,
+            capillary_mmhg: nan,
+            interstitial_mmhg: nan,
+            plasma_colloid_mmhg: nan,
+            interstitial_colloid_mmhg: nan,
+            filtration_ml_h: nan,
+            lymph_ml_h: nan,
+            vasopressin_pmol_l: nan,
+            urine_ml_h: nan,
+            urine_osm_mosm_kg: nan,
+            urine_na_mmol_l: nan,
+            urine_k_mmol_l: nan,
+            efwc_ml_h: nan,
+            osmolar_clearance_ml_h: nan,
+            free_water_clearance_ml_h: nan,
+        }
+    }
+
     /// Derived labs and flows at state `y` under inputs `u`.
     pub fn observe(&self, y: &[f64], u: &Inputs) -> Observation {
         let f = self.fluxes(y, u);

@@ -85,6 +85,29 @@ pub struct Plan {
     pub limits: LimitChoice,
     /// Solver settings.
     pub tolerances: Tolerances,
+    /// What each sample holds (every observation, or what the state
+    /// alone gives).
+    #[serde(skip)]
+    pub sample_detail: SampleDetail,
+    /// Whether the trajectory works out the mass balance (every species at
+    /// every sample; [`crate::Trajectory::balance`]). A sweep member whose
+    /// row does not report it skips it.
+    #[serde(skip)]
+    pub mass_balance: bool,
+}
+
+/// What each sample of a run holds.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub enum SampleDetail {
+    /// Every observation (the flows need a model evaluation per sample).
+    #[default]
+    Full,
+    /// What the state alone gives ([`crate::Model::observe_state`]):
+    /// concentrations, volumes and the brain-cell volume index, the same
+    /// numbers as [`SampleDetail::Full`]; flows, pressures and urine are
+    /// NaN. For runs read only for those, such as sweep members. Rules
+    /// still see every observation at their check times.
+    StateOnly,
 }
 
 impl Plan {
@@ -101,6 +124,8 @@ impl Plan {
             overrides: Vec::new(),
             limits: LimitChoice::default(),
             tolerances: Tolerances::default(),
+            sample_detail: SampleDetail::Full,
+            mass_balance: true,
         }
     }
 

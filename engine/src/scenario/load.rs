@@ -145,6 +145,8 @@ impl Scenario {
         }
         let script = assemble(&state, name, source)?;
         let load_log = log.borrow().clone();
+        let captured = super::captured::Captured::take(&script.rules);
+        let loaded = state.borrow().clone();
         Ok(Scenario {
             name: name.to_string(),
             path: None,
@@ -159,6 +161,8 @@ impl Scenario {
             settings: settings.to_vec(),
             base_dir: base_dir.to_path_buf(),
             ran: Cell::new(false),
+            captured,
+            loaded,
         })
     }
 }

@@ -50,6 +50,7 @@
 
 pub mod actions;
 mod assemble;
+mod captured;
 mod diagnose;
 pub mod error;
 pub mod expect;
@@ -97,6 +98,11 @@ pub struct Scenario {
     settings: Vec<(String, f64)>,
     base_dir: PathBuf,
     ran: Cell<bool>,
+    /// What a run may change, as the load left it: the variables the rules
+    /// capture (`None` when they cannot all be followed: each run after the
+    /// first then loads the script afresh) and what the words act on.
+    captured: Option<captured::Captured>,
+    loaded: words::State,
 }
 
 impl std::fmt::Debug for Scenario {
@@ -171,6 +177,13 @@ impl Scenario {
         self.state.borrow().fluids.get(id).cloned()
     }
 
+    /// Whether a run after the first puts back the variables the rules
+    /// capture, as the load left them, rather than loading the script
+    /// afresh (false only when they cannot all be followed).
+    pub fn reuses_its_load(&self) -> bool {
+        self.captured.is_some()
+    }
+
     /// Number of rules and of expectations.
     pub fn counts(&self) -> (usize, usize) {
         (self.script.rules.len(), self.script.expectations.len())
@@ -186,13 +199,38 @@ impl Scenario {
     /// (a sweep member: the script's plan with some patient fields or
     /// parameters changed). The script's rules and expectations still apply.
     pub fn run_with_plan(&self, plan: Plan) -> Result<ScenarioRun, ScenarioError> {
+        let trajectory = self.trajectory_with_plan(plan)?;
+        let log = self.log.borrow().to_lines();
+        let expectations = self
+            .script
+            .expectations
+            .iter()
+            .map(|e| e.evaluate(&trajectory, &log))
+            .collect();
+        Ok(ScenarioRun {
+            trajectory,
+            expectations,
+            log,
+        })
+    }
+
+    /// Like [`Scenario::run_with_plan`], the simulated course alone: the
+    /// expectations are not checked (a sweep member keeps only outputs of
+    /// its trajectory). The run log is still kept.
+    pub fn trajectory_with_plan(&self, plan: Plan) -> Result<Trajectory, ScenarioError> {
         // Rules may keep state in variables they capture (`let stopped =
-        // false;`): a second run starts from a freshly loaded script so that
-        // every run is independent of the ones before it.
-        if self.ran.replace(true) {
+        // false;`): every run starts from them as the load left them, and
+        // from the words' state as the load left it (a reload of this
+        // scenario shares it), so that every run is independent of the ones
+        // before it. When the captured variables cannot be put back, a
+        // second run starts from a freshly loaded script instead.
+        let again = self.ran.replace(true);
+        let restored = self.captured.as_ref().is_some_and(|c| c.restore());
+        if again && !restored {
             let fresh = self.reloaded(&self.settings)?;
-            return fresh.run_with_plan(plan);
+            return fresh.trajectory_with_plan(plan);
         }
+        self.state.borrow_mut().clone_from(&self.loaded);
         let sim = Simulation::new(plan).map_err(|e| ScenarioError::Simulation {
             file: self.name.clone(),
             line: 0,
@@ -235,18 +273,7 @@ impl Scenario {
                 source: e,
             }
         })?;
-        let log = self.log.borrow().to_lines();
-        let expectations = self
-            .script
-            .expectations
-            .iter()
-            .map(|e| e.evaluate(&trajectory, &log))
-            .collect();
-        Ok(ScenarioRun {
-            trajectory,
-            expectations,
-            log,
-        })
+        Ok(trajectory)
     }
 }
 

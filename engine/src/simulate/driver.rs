@@ -9,7 +9,7 @@ use super::Simulation;
 use crate::body::STATE_NAMES;
 use crate::error::SimulationError;
 use crate::model::{Inputs, Model};
-use crate::plan::{Action, Controller, Snapshot};
+use crate::plan::{Action, Controller, SampleDetail, Snapshot};
 use crate::trajectory::{Sample, SolverStats, Trajectory};
 use diffsol::{
     Bdf, OdeEquations, OdeSolverMethod, OdeSolverState, OdeSolverStopReason, Op, Vector,
@@ -44,9 +44,19 @@ fn negative_scales(y0: &[f64]) -> Vec<f64> {
     scales
 }
 
-/// Record a sample of state `y` at `time` under `inputs`.
-fn take(samples: &mut Vec<Sample>, model: &Model, time: f64, y: Vec<f64>, inputs: &Inputs) {
-    let obs = model.observe(&y, inputs);
+/// Record a sample of state `y` at `time` under `inputs`, holding `detail`.
+fn take(
+    samples: &mut Vec<Sample>,
+    model: &Model,
+    detail: SampleDetail,
+    time: f64,
+    y: Vec<f64>,
+    inputs: &Inputs,
+) {
+    let obs = match detail {
+        SampleDetail::Full => model.observe(&y, inputs),
+        SampleDetail::StateOnly => model.observe_state(&y),
+    };
     samples.push(Sample {
         time_h: time,
         obs,
@@ -97,7 +107,8 @@ impl Simulation {
             .set_params(&V::from_vec(inputs.to_vec(), ctx));
         refresh(&problem, &mut state);
 
-        take(&mut samples, &model, 0.0, y.clone(), &inputs);
+        let detail = plan.sample_detail;
+        take(&mut samples, &model, detail, 0.0, y.clone(), &inputs);
         next_sample += 1;
 
         loop {
@@ -154,7 +165,7 @@ impl Simulation {
                                 (Some(ts), tc) if tc.is_none_or(|tc| ts <= tc + EPS_H) => {
                                     at(ts, &samples)?;
                                     check_negative(&ybuf, ts, &scales)?;
-                                    take(&mut samples, &model, ts, ybuf.clone(), &inputs);
+                                    take(&mut samples, &model, detail, ts, ybuf.clone(), &inputs);
                                     next_sample += 1;
                                 }
                                 (_, Some(tc)) => {
@@ -230,11 +241,12 @@ impl Simulation {
             refresh(&problem, &mut state);
         }
         add_rhs_statistics(&mut stats, &problem);
-        let mut trajectory = Trajectory::from_samples(
+        let mut trajectory = Trajectory::from_samples_with(
             samples,
             plan.limits.clone(),
             crate::limits::Situation::of(&self.patient),
             stats,
+            plan.mass_balance,
         );
         trajectory.stream_totals = schedule.totals_to(end);
         Ok(trajectory)
@@ -288,9 +300,15 @@ impl Simulation {
         if schedule.advance_to(t) {
             let inputs = schedule.inputs();
             // A sample taken at this moment under these inputs has the
-            // observation already.
+            // observation already, when it holds every observation.
             let obs = match samples.last() {
-                Some(last) if (t - last.time_h).abs() <= EPS_H && last.inputs == inputs => last.obs,
+                Some(last)
+                    if (t - last.time_h).abs() <= EPS_H
+                        && last.inputs == inputs
+                        && self.plan.sample_detail == SampleDetail::Full =>
+                {
+                    last.obs
+                }
                 _ => model.observe(y, &inputs),
             };
             // Sodium now, at the start and back in time, read off the samples

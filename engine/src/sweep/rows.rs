@@ -88,16 +88,13 @@ pub fn result_row(
     outcome: &Result<Trajectory, String>,
 ) -> String {
     let mut cells = design_cells(member);
-    let n_out = result_header(spec, duration_h).len() - cells.len() - 1;
     match outcome {
         Ok(traj) => {
             cells.push("ok".into());
+            let times = traj.times();
+            let na = traj.sodium();
             for t in &spec.outputs.na_at_h {
-                cells.push(fmt_val(crate::trajectory::interpolate(
-                    &traj.times(),
-                    &traj.sodium(),
-                    *t,
-                )));
+                cells.push(fmt_val(crate::trajectory::interpolate(&times, &na, *t)));
             }
             if spec.outputs.largest_rise_24h {
                 cells.push(fmt_val(traj.largest_rise(24.0).0));
@@ -142,14 +139,13 @@ pub fn result_row(
             } else {
                 String::new()
             });
-            let times = traj.times();
-            let na = traj.sodium();
             for t in band_times(spec, duration_h) {
                 cells.push(fmt_val(crate::trajectory::interpolate(&times, &na, t)));
             }
             cells.push(String::new());
         }
         Err(e) => {
+            let n_out = result_header(spec, duration_h).len() - cells.len() - 1;
             cells.push("failed".into());
             cells.extend(std::iter::repeat_n(String::new(), n_out - 1));
             cells.push(csv_quote(e));
@@ -248,14 +244,22 @@ impl Outcomes {
 }
 
 /// Count the failed members of the result file `path` of `spec` and keep
-/// the first failure with its parameter values and error.
+/// the first failure with its parameter values and error. The file is read
+/// row by row (its memory does not grow with the members).
 pub fn outcomes(path: &Path, spec: &SweepSpec) -> Result<Outcomes, SweepError> {
+    use std::io::BufRead;
     let file_name = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|e| SweepError::io(&file_name, e))?;
+    let io = |e| SweepError::io(&file_name, e);
+    let file = std::fs::File::open(path).map_err(io)?;
     let names = design_header(spec);
     let status_at = names.len();
     let mut tally = Outcomes::default();
-    for line in text.lines().skip(1).filter(|l| !l.is_empty()) {
+    for line in std::io::BufReader::new(file).lines().skip(1) {
+        let line = line.map_err(io)?;
+        let line = line.as_str();
+        if line.is_empty() {
+            continue;
+        }
         tally.members += 1;
         let cells = split_csv(line);
         if cells.get(status_at) != Some(&"failed") {

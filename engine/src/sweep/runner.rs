@@ -16,8 +16,22 @@ use std::path::Path;
 /// Runs one member: applies the overrides `(name, value)` to the base
 /// scenario and simulates it. One runner lives on each worker thread.
 pub trait MemberRunner {
-    /// Simulate the base scenario with these overrides.
+    /// Simulate the base scenario with these overrides. The bundled
+    /// runners sample only what the state gives
+    /// ([`crate::plan::SampleDetail::StateOnly`]): what a result row reads.
     fn run(&mut self, overrides: &[(String, f64)]) -> Result<Trajectory, String>;
+
+    /// [`MemberRunner::run`] for a member whose row reports the mass
+    /// balance (`balance`, [`super::checks_balance`]) or not; a runner may
+    /// skip working it out when not. By default the same as `run`.
+    fn run_member(
+        &mut self,
+        overrides: &[(String, f64)],
+        balance: bool,
+    ) -> Result<Trajectory, String> {
+        let _ = balance;
+        self.run(overrides)
+    }
 }
 
 /// Set a numeric patient field by name (`weight_kg`, `na`, ...).
@@ -131,6 +145,14 @@ pub struct ScenarioRunner {
 
 impl MemberRunner for ScenarioRunner {
     fn run(&mut self, overrides: &[(String, f64)]) -> Result<Trajectory, String> {
+        self.run_member(overrides, true)
+    }
+
+    fn run_member(
+        &mut self,
+        overrides: &[(String, f64)],
+        balance: bool,
+    ) -> Result<Trajectory, String> {
         let settings: Vec<(String, f64)> = overrides
             .iter()
             .filter_map(|(n, v)| n.strip_prefix("script.").map(|s| (s.to_string(), *v)))
@@ -150,9 +172,11 @@ impl MemberRunner for ScenarioRunner {
         if let Some(rtol) = self.rtol {
             plan.tolerances.rtol = rtol;
         }
+        // A row reads sodium, the brain-cell volume index and the state.
+        plan.sample_detail = crate::plan::SampleDetail::StateOnly;
+        plan.mass_balance = balance;
         scenario
-            .run_with_plan(plan)
-            .map(|r| r.trajectory)
+            .trajectory_with_plan(plan)
             .map_err(|e| e.to_string())
     }
 }
@@ -166,6 +190,14 @@ pub struct PlanRunner {
 
 impl MemberRunner for PlanRunner {
     fn run(&mut self, overrides: &[(String, f64)]) -> Result<Trajectory, String> {
+        self.run_member(overrides, true)
+    }
+
+    fn run_member(
+        &mut self,
+        overrides: &[(String, f64)],
+        balance: bool,
+    ) -> Result<Trajectory, String> {
         if let Some((name, _)) = overrides.iter().find(|(n, _)| n.starts_with("script.")) {
             return Err(format!(
                 "{name}: script settings need a scenario script as the base"
@@ -173,6 +205,8 @@ impl MemberRunner for PlanRunner {
         }
         let mut plan = self.base.clone();
         apply_overrides(&mut plan, overrides)?;
+        plan.sample_detail = crate::plan::SampleDetail::StateOnly;
+        plan.mass_balance = balance;
         crate::simulate::Simulation::new(plan)
             .and_then(|s| s.run())
             .map_err(|e| e.to_string())
@@ -260,7 +294,8 @@ where
                         .zip(member.values.iter())
                         .map(|(p, v)| (p.name.clone(), *v))
                         .collect();
-                    let outcome = runner.run(&overrides);
+                    let balance = super::checks_balance(spec, member.index);
+                    let outcome = runner.run_member(&overrides, balance);
                     let row = result_row(spec, &member, duration_h, &outcome);
                     let mut w = writer.lock().expect("lock");
                     if let Err(e) = w.put(k, row) {
@@ -350,5 +385,68 @@ mod tests {
         )
         .unwrap();
         assert!(check_script_settings(&spec, &text, "k.yaml", &in_rule).is_ok());
+    }
+}
+
+#[cfg(test)]
+mod reuse_tests {
+    use super::*;
+    use crate::scenario::Scenario;
+
+    /// A drip the rule stops once, the first time sodium has risen 2
+    /// mmol/L, and a rule counting its calls in a captured variable.
+    const SCRIPT: &str = r#"
+        patient(#{ sex: "female", age_years: 60, weight_kg: 60, na: 120, onset: "chronic", cause: "inappropriate_antidiuresis" });
+        run_for(hours(8));
+        at(hours(0), infuse_at_rate("saline_3", ml_per_h(60)).labelled("drip"));
+        let fired = false;
+        let calls = 0;
+        every(minutes(30), |labs| {
+            calls += 1;
+            if !fired && labs.na_change_since_start >= 2 {
+                stop("drip");
+                fired = true;
+                print(`stopped at call ${calls}`);
+            }
+        });
+    "#;
+
+    fn runner() -> ScenarioRunner {
+        ScenarioRunner {
+            scenario: Scenario::from_source("once.rhai", SCRIPT, Path::new(".")).unwrap(),
+            rtol: Some(1e-4),
+        }
+    }
+
+    fn member(water: f64, gfr: f64) -> Vec<(String, f64)> {
+        vec![
+            ("patient.water_fraction".to_string(), water),
+            ("gfr_ml_min".to_string(), gfr),
+        ]
+    }
+
+    #[test]
+    fn a_reused_member_matches_a_freshly_loaded_one_with_fresh_rule_state() {
+        let members = [member(0.45, 90.0), member(0.55, 60.0), member(0.45, 90.0)];
+        let mut reused = runner();
+        for m in &members {
+            let got = reused.run(m).unwrap();
+            let want = runner().run(m).unwrap();
+            // The same steps, so the same bits.
+            assert_eq!(got.sodium(), want.sodium());
+            assert_eq!(got.stats.steps, want.stats.steps);
+            // The rule fired in this member too: the drip stopped before
+            // the end (a rule state left over from the member before
+            // would never stop it again).
+            let end = got.samples.last().unwrap();
+            assert_eq!(end.inputs.na_in_mmol_h, 0.0, "{m:?}");
+            assert!(got.at(0.1).inputs.na_in_mmol_h > 0.0);
+        }
+        // The members differ: the overrides reached the runs.
+        let a = runner().run(&members[0]).unwrap();
+        let b = runner().run(&members[1]).unwrap();
+        assert_ne!(a.sodium(), b.sodium());
+        // The reused runner never loaded its script again.
+        assert!(reused.scenario.reuses_its_load());
     }
 }

@@ -58,7 +58,7 @@ pub(crate) enum Phase {
 }
 
 /// What the script has said so far.
-#[derive(Debug)]
+#[derive(Debug, Clone)]
 pub(crate) struct State {
     pub base_dir: PathBuf,
     pub title: Option<String>,

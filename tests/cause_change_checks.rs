@@ -105,7 +105,10 @@ run_for(hours(24));
         let thirsty = sodium_24h(&format!(
             "at(hours(2), {order});\nat(hours(2.01), change_param(\"thirst_enabled\", 1.0));\n"
         ));
-        assert!((ordered - by_hand).abs() < 1e-6, "{order}: {ordered} vs {by_hand}");
+        assert!(
+            (ordered - by_hand).abs() < 1e-6,
+            "{order}: {ordered} vs {by_hand}"
+        );
         // Drinking at will would have held sodium down.
         assert!(ordered > thirsty + 0.5, "{order}: {ordered} vs {thirsty}");
     }

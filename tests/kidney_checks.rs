@@ -5,7 +5,7 @@
 use tidewater::{Cause, Onset, Sex};
 
 use tidewater::physiology::osmoregulation;
-use tidewater::S;
+use tidewater::StateSlot;
 use tidewater::{formulas, Action, FluidLibrary, Patient, Plan, Route, Simulation, Stream};
 use tidewater_checks::*;
 
@@ -114,7 +114,7 @@ fn healthy_adult_excretes_most_of_a_litre_of_water_within_four_hours() {
         .start(1.0, give("water", 1.0, 0.25)));
     assert_balanced(&traj);
     let rest = traj.samples[0].obs.urine_ml_h / 1000.0;
-    let urine = |t: f64| traj.at(t).y[S::UrineL as usize];
+    let urine = |t: f64| traj.at(t).y[StateSlot::UrineL as usize];
     let excess = urine(5.0) - urine(1.0) - 4.0 * rest;
     assert!(excess > 0.6, "only {excess:.2} L of 1 L excreted in 4 h");
     let lowest = traj

@@ -15,8 +15,8 @@
 //! ```
 //!
 //! with `V_iv`, `N_iv`, `K_iv` the cumulative water, sodium and potassium
-//! given by vein (ledger states [`S::InfusedWaterL`], [`S::InfusedNa`],
-//! [`S::InfusedK`], integrated by the solver from the plan's
+//! given by vein (ledger states [`StateSlot::InfusedWaterL`], [`StateSlot::InfusedNa`],
+//! [`StateSlot::InfusedK`], integrated by the solver from the plan's
 //! piecewise-constant rates, which it stops at every change). Only what is
 //! given by vein counts: a clinician's formula counts the infusate, so
 //! drinks, tube feeds and tablets of a plan fall into the body's "other
@@ -45,7 +45,7 @@
 //! ```
 //!
 //! with `F_u = ∫ Q_u·(1 − (U_Na + U_K)/P_Na) dt` (ledger
-//! [`S::UrineFreeWaterL`]), `N_u`, `K_u` the urine sodium and potassium,
+//! [`StateSlot::UrineFreeWaterL`]), `N_u`, `K_u` the urine sodium and potassium,
 //! `V_u` the urine volume, and the other exchange what the ledger's totals
 //! hold beyond infusions and urine (drinks, food and tablets absorbed from
 //! the gut, water of oxidation, insensible loss, stool, vomit, drains,
@@ -59,7 +59,7 @@
 //! compared with the actual state, and `residual = r₀·(E(T)/W(T) −
 //! E₄/W₄)` is the ledger's error, reported beside the terms.
 
-use crate::body::{total_water_l, S};
+use crate::body::{total_water_l, StateSlot};
 use crate::trajectory::Trajectory;
 use serde::Serialize;
 
@@ -67,11 +67,11 @@ use serde::Serialize;
 /// tissue cells; not the gut lumen), mmol.
 pub fn exchangeable_cations_mmol(y: &[f64]) -> f64 {
     [
-        S::NaPlasma,
-        S::NaInterstitium,
-        S::KPlasma,
-        S::KInterstitium,
-        S::KCells,
+        StateSlot::NaPlasma,
+        StateSlot::NaInterstitium,
+        StateSlot::KPlasma,
+        StateSlot::KInterstitium,
+        StateSlot::KCells,
     ]
     .iter()
     .map(|&s| y[s as usize])
@@ -80,7 +80,7 @@ pub fn exchangeable_cations_mmol(y: &[f64]) -> f64 {
 
 /// Serum sodium of a state (per litre of plasma water), mmol/L.
 pub fn serum_sodium(y: &[f64]) -> f64 {
-    y[S::NaPlasma as usize] / y[S::PlasmaL as usize].max(1e-9)
+    y[StateSlot::NaPlasma as usize] / y[StateSlot::PlasmaL as usize].max(1e-9)
 }
 
 /// The Adrogué–Madias change (mmol/L) for what was given by vein between
@@ -88,9 +88,9 @@ pub fn serum_sodium(y: &[f64]) -> f64 {
 /// sodium and potassium, the start sodium and the start total body water
 /// (see the module text).
 pub fn formula_change_between(y0: &[f64], y: &[f64]) -> f64 {
-    let d = |s: S| y[s as usize] - y0[s as usize];
-    let cations = d(S::InfusedNa) + d(S::InfusedK);
-    let water = d(S::InfusedWaterL);
+    let d = |s: StateSlot| y[s as usize] - y0[s as usize];
+    let cations = d(StateSlot::InfusedNa) + d(StateSlot::InfusedK);
+    let water = d(StateSlot::InfusedWaterL);
     adrogue_madias_course(cations, water, serum_sodium(y0), total_water_l(y0))
 }
 
@@ -207,7 +207,7 @@ impl GapAttribution {
 /// Attribute the change between the start state `y0` and the state `y`
 /// (full state vectors, ledger included) at time `time_h`.
 pub fn attribute_states(y0: &[f64], y: &[f64], time_h: f64) -> GapAttribution {
-    let d = |s: S| y[s as usize] - y0[s as usize];
+    let d = |s: StateSlot| y[s as usize] - y0[s as usize];
     let (e0, w0, na0) = (
         exchangeable_cations_mmol(y0),
         total_water_l(y0),
@@ -221,19 +221,21 @@ pub fn attribute_states(y0: &[f64], y: &[f64], time_h: f64) -> GapAttribution {
     let r0 = na0 / (e0 / w0);
     let r = na / (e / w);
 
-    let iv_water = d(S::InfusedWaterL);
-    let iv_cations = d(S::InfusedNa) + d(S::InfusedK);
-    let free = d(S::UrineFreeWaterL);
-    let urine_l = d(S::UrineL);
-    let urine_cations = d(S::UrineNa) + d(S::UrineK);
+    let iv_water = d(StateSlot::InfusedWaterL);
+    let iv_cations = d(StateSlot::InfusedNa) + d(StateSlot::InfusedK);
+    let free = d(StateSlot::UrineFreeWaterL);
+    let urine_l = d(StateSlot::UrineL);
+    let urine_cations = d(StateSlot::UrineNa) + d(StateSlot::UrineK);
     // What the ledger's totals hold beyond infusions and urine; what was
     // swallowed counts once absorbed (the gut lumen is outside the body).
-    let gut = |s: &[f64]| s[S::GutNa as usize] + s[S::GutK as usize];
-    let in_cations = d(S::InNa) + d(S::InK);
-    let out_cations = d(S::OutNa) + d(S::OutK);
+    let gut = |s: &[f64]| s[StateSlot::GutNa as usize] + s[StateSlot::GutK as usize];
+    let in_cations = d(StateSlot::InNa) + d(StateSlot::InK);
+    let out_cations = d(StateSlot::OutNa) + d(StateSlot::OutK);
     let other_cations =
         (in_cations - iv_cations) - (out_cations - urine_cations) - (gut(y) - gut(y0));
-    let other_water = (d(S::InWater) - iv_water) - (d(S::OutWater) - urine_l) - d(S::GutWater);
+    let other_water = (d(StateSlot::InWater) - iv_water)
+        - (d(StateSlot::OutWater) - urine_l)
+        - d(StateSlot::GutWater);
 
     let b1 = (e0 + iv_cations, w0 + iv_water);
     let b2 = (b1.0, b1.1 - free);

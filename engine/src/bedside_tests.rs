@@ -112,20 +112,24 @@ fn hand_made_states_telescope_to_the_change() {
     // every compartment in proportion; the free-water term must be
     // r0·(E0/(W0 − 2) − E0/W0) and the rest zero but for the shift.
     let mut y0 = vec![0.0; N_STATES];
-    let set = |y: &mut Vec<f64>, s: S, v: f64| y[s as usize] = v;
-    set(&mut y0, S::CellsL, 18.0);
-    set(&mut y0, S::InterstitiumL, 9.0);
-    set(&mut y0, S::PlasmaL, 3.0);
-    set(&mut y0, S::NaPlasma, 3.0 * 120.0);
-    set(&mut y0, S::NaInterstitium, 9.0 * 120.0);
-    set(&mut y0, S::KCells, 18.0 * 130.0);
+    let set = |y: &mut Vec<f64>, s: StateSlot, v: f64| y[s as usize] = v;
+    set(&mut y0, StateSlot::CellsL, 18.0);
+    set(&mut y0, StateSlot::InterstitiumL, 9.0);
+    set(&mut y0, StateSlot::PlasmaL, 3.0);
+    set(&mut y0, StateSlot::NaPlasma, 3.0 * 120.0);
+    set(&mut y0, StateSlot::NaInterstitium, 9.0 * 120.0);
+    set(&mut y0, StateSlot::KCells, 18.0 * 130.0);
     let mut y = y0.clone();
-    for s in [S::CellsL, S::InterstitiumL, S::PlasmaL] {
+    for s in [
+        StateSlot::CellsL,
+        StateSlot::InterstitiumL,
+        StateSlot::PlasmaL,
+    ] {
         y[s as usize] *= 28.0 / 30.0;
     }
-    set(&mut y, S::OutWater, 2.0);
-    set(&mut y, S::UrineL, 2.0);
-    set(&mut y, S::UrineFreeWaterL, 2.0);
+    set(&mut y, StateSlot::OutWater, 2.0);
+    set(&mut y, StateSlot::UrineL, 2.0);
+    set(&mut y, StateSlot::UrineFreeWaterL, 2.0);
     let g = attribute_states(&y0, &y, 24.0);
     let (e0, w0) = (exchangeable_cations_mmol(&y0), 30.0);
     let r0 = 120.0 / (e0 / w0);
@@ -138,9 +142,9 @@ fn hand_made_states_telescope_to_the_change() {
     assert!(g.ledger_residual_mmol_l.abs() < 1e-9);
     assert!((g.sum_of_terms_mmol_l - g.simulated_change_mmol_l).abs() < 1e-9);
     // A ledger that misses 0.5 L of the urine shows up as a residual.
-    set(&mut y, S::UrineFreeWaterL, 1.5);
-    set(&mut y, S::UrineL, 1.5);
-    set(&mut y, S::OutWater, 1.5);
+    set(&mut y, StateSlot::UrineFreeWaterL, 1.5);
+    set(&mut y, StateSlot::UrineL, 1.5);
+    set(&mut y, StateSlot::OutWater, 1.5);
     let bad = attribute_states(&y0, &y, 24.0);
     assert!(bad.ledger_residual_mmol_l.abs() > 1.0, "{bad:?}");
 }

@@ -8,10 +8,11 @@
 //! from the body, so that for every species
 //! `content(t) = content(0) + in(t) − out(t)` holds to rounding.
 
-/// Index of each entry of the state vector.
+/// A slot of the state vector: the pool, volume or ledger entry each index
+/// holds (`y[StateSlot::NaPlasma as usize]`).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[repr(usize)]
-pub enum S {
+pub enum StateSlot {
     /// Water of tissue cells (brain and red cells excluded), L.
     CellsL,
     /// Red-cell water, L.
@@ -122,10 +123,10 @@ pub enum S {
 }
 
 /// Number of entries that describe the body (the rest is the ledger).
-pub const N_STATES_BODY: usize = S::InWater as usize;
+pub const N_STATES_BODY: usize = StateSlot::InWater as usize;
 
 /// Number of entries in the state vector.
-pub const N_STATES: usize = S::InfusedK as usize + 1;
+pub const N_STATES: usize = StateSlot::InfusedK as usize + 1;
 
 /// Name of each state for messages, in layout order.
 pub const STATE_NAMES: [&str; N_STATES] = [
@@ -245,39 +246,52 @@ impl Species {
         }
     }
 
-    fn pools(self) -> &'static [S] {
+    fn pools(self) -> &'static [StateSlot] {
         match self {
             Species::Water => &[
-                S::CellsL,
-                S::RedCellsL,
-                S::BrainL,
-                S::InterstitiumL,
-                S::PlasmaL,
-                S::GutWater,
+                StateSlot::CellsL,
+                StateSlot::RedCellsL,
+                StateSlot::BrainL,
+                StateSlot::InterstitiumL,
+                StateSlot::PlasmaL,
+                StateSlot::GutWater,
             ],
-            Species::Sodium => &[S::NaPlasma, S::NaInterstitium, S::GutNa],
-            Species::Potassium => &[S::KPlasma, S::KInterstitium, S::KCells, S::GutK],
+            Species::Sodium => &[
+                StateSlot::NaPlasma,
+                StateSlot::NaInterstitium,
+                StateSlot::GutNa,
+            ],
+            Species::Potassium => &[
+                StateSlot::KPlasma,
+                StateSlot::KInterstitium,
+                StateSlot::KCells,
+                StateSlot::GutK,
+            ],
             Species::Urea => &[
-                S::UreaPlasma,
-                S::UreaInterstitium,
-                S::UreaCells,
-                S::UreaRedCells,
-                S::GutUrea,
+                StateSlot::UreaPlasma,
+                StateSlot::UreaInterstitium,
+                StateSlot::UreaCells,
+                StateSlot::UreaRedCells,
+                StateSlot::GutUrea,
             ],
-            Species::Glucose => &[S::GlucosePlasma, S::GlucoseInterstitium, S::GutGlucose],
-            Species::Albumin => &[S::AlbuminPlasma, S::AlbuminInterstitium],
+            Species::Glucose => &[
+                StateSlot::GlucosePlasma,
+                StateSlot::GlucoseInterstitium,
+                StateSlot::GutGlucose,
+            ],
+            Species::Albumin => &[StateSlot::AlbuminPlasma, StateSlot::AlbuminInterstitium],
         }
     }
 
     /// Ledger entries (cumulative in, cumulative out) of the species.
-    pub fn ledger(self) -> (S, S) {
+    pub fn ledger(self) -> (StateSlot, StateSlot) {
         match self {
-            Species::Water => (S::InWater, S::OutWater),
-            Species::Sodium => (S::InNa, S::OutNa),
-            Species::Potassium => (S::InK, S::OutK),
-            Species::Urea => (S::InUrea, S::OutUrea),
-            Species::Glucose => (S::InGlucose, S::OutGlucose),
-            Species::Albumin => (S::InAlbumin, S::OutAlbumin),
+            Species::Water => (StateSlot::InWater, StateSlot::OutWater),
+            Species::Sodium => (StateSlot::InNa, StateSlot::OutNa),
+            Species::Potassium => (StateSlot::InK, StateSlot::OutK),
+            Species::Urea => (StateSlot::InUrea, StateSlot::OutUrea),
+            Species::Glucose => (StateSlot::InGlucose, StateSlot::OutGlucose),
+            Species::Albumin => (StateSlot::InAlbumin, StateSlot::OutAlbumin),
         }
     }
 
@@ -316,23 +330,23 @@ impl Species {
 /// Total body water of a state vector: tissue cells, red cells, brain,
 /// interstitium and plasma (not the water still in the gut lumen), L.
 pub fn total_water_l(y: &[f64]) -> f64 {
-    y[S::CellsL as usize]
-        + y[S::RedCellsL as usize]
-        + y[S::BrainL as usize]
-        + y[S::InterstitiumL as usize]
-        + y[S::PlasmaL as usize]
+    y[StateSlot::CellsL as usize]
+        + y[StateSlot::RedCellsL as usize]
+        + y[StateSlot::BrainL as usize]
+        + y[StateSlot::InterstitiumL as usize]
+        + y[StateSlot::PlasmaL as usize]
 }
 
 /// A body state: the state vector with named read access.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Body {
-    /// The state vector, laid out as [`S`].
+    /// The state vector, laid out as [`StateSlot`].
     pub y: Vec<f64>,
 }
 
 impl Body {
     /// Value of one state.
-    pub fn get(&self, s: S) -> f64 {
+    pub fn get(&self, s: StateSlot) -> f64 {
         self.y[s as usize]
     }
 
@@ -344,12 +358,12 @@ impl Body {
 
     /// Extracellular water (plasma + interstitium), L.
     pub fn extracellular_l(&self) -> f64 {
-        self.get(S::PlasmaL) + self.get(S::InterstitiumL)
+        self.get(StateSlot::PlasmaL) + self.get(StateSlot::InterstitiumL)
     }
 
     /// Intracellular water (tissue cells, red cells, brain), L.
     pub fn intracellular_l(&self) -> f64 {
-        self.get(S::CellsL) + self.get(S::RedCellsL) + self.get(S::BrainL)
+        self.get(StateSlot::CellsL) + self.get(StateSlot::RedCellsL) + self.get(StateSlot::BrainL)
     }
 }
 
@@ -360,18 +374,18 @@ mod tests {
     #[test]
     fn layout_and_names_agree() {
         assert_eq!(STATE_NAMES.len(), N_STATES);
-        assert_eq!(STATE_NAMES[S::PlasmaL as usize], "plasma water");
-        assert_eq!(STATE_NAMES[S::UrineL as usize], "cumulative urine");
+        assert_eq!(STATE_NAMES[StateSlot::PlasmaL as usize], "plasma water");
+        assert_eq!(STATE_NAMES[StateSlot::UrineL as usize], "cumulative urine");
     }
 
     #[test]
     fn residual_is_zero_when_the_ledger_matches() {
         let y0 = vec![1.0; N_STATES];
         let mut y = y0.clone();
-        y[S::PlasmaL as usize] += 0.5;
-        y[S::InWater as usize] += 0.5;
+        y[StateSlot::PlasmaL as usize] += 0.5;
+        y[StateSlot::InWater as usize] += 0.5;
         assert_eq!(Species::Water.residual(&y0, &y), 0.0);
-        y[S::InWater as usize] += 0.1;
+        y[StateSlot::InWater as usize] += 0.1;
         assert!(Species::Water.residual(&y0, &y) < -0.01);
     }
 }

@@ -111,7 +111,7 @@ pub mod units;
 pub mod validation;
 pub mod yaml;
 
-pub use body::{Body, Species, N_STATES_BODY, S, STATE_NAMES};
+pub use body::{Body, Species, StateSlot, N_STATES_BODY, STATE_NAMES};
 pub use causes::Cause;
 pub use error::{InputError, SimulationError};
 pub use fluids::{Fluid, FluidLibrary};

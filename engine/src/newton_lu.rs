@@ -2,7 +2,7 @@
 //! that exploits the shape of the Newton matrix `I − c·J`.
 //!
 //! The ledger entries of the state (cumulative intake and output, see
-//! [`crate::body::S`]) are pure quadratures: no rate depends on them. Their
+//! [`crate::body::StateSlot`]) are pure quadratures: no rate depends on them. Their
 //! columns of the Jacobian are therefore zero, and the Newton matrix is
 //! block lower triangular,
 //!

@@ -17,7 +17,7 @@ pub struct Sample {
     pub obs: Observation,
     /// Inputs in force.
     pub inputs: Inputs,
-    /// The full state vector (see [`crate::body::S`]).
+    /// The full state vector (see [`crate::body::StateSlot`]).
     #[serde(skip)]
     pub y: Vec<f64>,
 }

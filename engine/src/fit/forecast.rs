@@ -4,7 +4,7 @@
 //! sodium for comparison.
 
 use super::{Fit, FitModel};
-use crate::body::S;
+use crate::body::StateSlot;
 use crate::sweep::{normal_quantile, SplitMix64};
 use crate::trajectory::{interpolate, Trajectory};
 use serde::Serialize;
@@ -144,11 +144,12 @@ pub fn formula_from(traj: &Trajectory, last: Option<(f64, f64)>) -> Vec<f64> {
     let Some((t_m, na_m)) = last else {
         return vec![f64::NAN; times.len()];
     };
-    let state = |s: S| -> Vec<f64> { traj.samples.iter().map(|x| x.y[s as usize]).collect() };
+    let state =
+        |s: StateSlot| -> Vec<f64> { traj.samples.iter().map(|x| x.y[s as usize]).collect() };
     let (v, na, k) = (
-        state(S::InfusedWaterL),
-        state(S::InfusedNa),
-        state(S::InfusedK),
+        state(StateSlot::InfusedWaterL),
+        state(StateSlot::InfusedNa),
+        state(StateSlot::InfusedK),
     );
     let tbw: Vec<f64> = traj.samples.iter().map(|x| x.obs.total_water_l).collect();
     let at = |series: &[f64], t: f64| interpolate(&times, series, t);

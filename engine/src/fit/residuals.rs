@@ -2,7 +2,7 @@
 //! may be from it: the residuals of the fit, scaled by each lab's
 //! measurement error.
 
-use crate::body::S;
+use crate::body::StateSlot;
 use crate::observations::{Lab, Observations};
 use crate::trajectory::Trajectory;
 use serde::Serialize;
@@ -64,14 +64,14 @@ pub fn model_value(traj: &Trajectory, lab: Lab, t: f64, since: f64, weight_kg: f
         Lab::UrineNa => traj.value_at(t, |s| s.obs.urine_na_mmol_l),
         Lab::UrineK => traj.value_at(t, |s| s.obs.urine_k_mmol_l),
         Lab::UrineMl => {
-            let urine = |s: &crate::trajectory::Sample| s.y[S::UrineL as usize];
+            let urine = |s: &crate::trajectory::Sample| s.y[StateSlot::UrineL as usize];
             1000.0 * (traj.value_at(t, urine) - traj.value_at(since, urine))
         }
         Lab::WeightKg => {
             // Weight moves with the water in the body, the gut's included
             // (1 L of water weighs 1 kg).
             let w = |s: &crate::trajectory::Sample| {
-                crate::body::total_water_l(&s.y) + s.y[S::GutWater as usize]
+                crate::body::total_water_l(&s.y) + s.y[StateSlot::GutWater as usize]
             };
             let w0 = w(&traj.samples[0]);
             weight_kg + traj.value_at(t, |s| w(s) - w0)

@@ -8,7 +8,7 @@ use super::resting::{
 };
 use super::start::{balance_the_start, share_drinking_with_thirst};
 use super::{Inputs, Model, Switches};
-use crate::body::{Body, S};
+use crate::body::{Body, StateSlot};
 use crate::error::InputError;
 use crate::params::Params;
 use crate::patient::ResolvedPatient;
@@ -314,11 +314,11 @@ impl Model {
         let u = self.habitual_inputs().plus(standing);
         let k = self.calibration.gut_absorption_per_h;
         let thirst = self.fluxes(y, &u).thirst_water_l_h;
-        y[S::GutWater as usize] = gut::steady_content(u.oral_water_l_h + thirst, k);
-        y[S::GutNa as usize] = gut::steady_content(u.oral_na_mmol_h, k);
-        y[S::GutK as usize] = gut::steady_content(u.oral_k_mmol_h, k);
-        y[S::GutUrea as usize] = gut::steady_content(u.oral_urea_mmol_h, k);
-        y[S::GutGlucose as usize] = gut::steady_content(u.oral_glucose_mmol_h, k);
+        y[StateSlot::GutWater as usize] = gut::steady_content(u.oral_water_l_h + thirst, k);
+        y[StateSlot::GutNa as usize] = gut::steady_content(u.oral_na_mmol_h, k);
+        y[StateSlot::GutK as usize] = gut::steady_content(u.oral_k_mmol_h, k);
+        y[StateSlot::GutUrea as usize] = gut::steady_content(u.oral_urea_mmol_h, k);
+        y[StateSlot::GutGlucose as usize] = gut::steady_content(u.oral_glucose_mmol_h, k);
     }
 
     /// The habitual intake (water, salt, potassium) as input rates; zero

@@ -251,21 +251,21 @@ mod tests {
         // Each listed parameter, moved within its range, moves some rate of
         // a state where every mechanism is active; a parameter the model
         // did not read as it runs would leave every rate unchanged.
-        use crate::body::S;
+        use crate::body::StateSlot;
         let (mut m, patient) = model_for("insulin_deficiency", 132.0);
         let mut y = Model::new(&patient, &m.params, m.switches).unwrap().1.y;
-        y[S::Desmopressin as usize] = 2.0;
-        y[S::DesmopressinDepot as usize] = 2.0;
-        y[S::V2Antagonist as usize] = 10.0;
-        y[S::RenalV2Effect as usize] = 2.0;
-        y[S::LoopDiuretic as usize] = 6.0;
-        y[S::LoopDiureticEffectSite as usize] = 5.0;
-        y[S::LoopDiureticDepot as usize] = 5.0;
-        y[S::PlasmaL as usize] *= 0.85;
-        y[S::BrainOsmolytes as usize] *= 0.9;
-        y[S::UreaCells as usize] *= 1.2;
-        y[S::UreaRedCells as usize] *= 1.2;
-        y[S::GlucosePlasma as usize] *= 3.0;
+        y[StateSlot::Desmopressin as usize] = 2.0;
+        y[StateSlot::DesmopressinDepot as usize] = 2.0;
+        y[StateSlot::V2Antagonist as usize] = 10.0;
+        y[StateSlot::RenalV2Effect as usize] = 2.0;
+        y[StateSlot::LoopDiuretic as usize] = 6.0;
+        y[StateSlot::LoopDiureticEffectSite as usize] = 5.0;
+        y[StateSlot::LoopDiureticDepot as usize] = 5.0;
+        y[StateSlot::PlasmaL as usize] *= 0.85;
+        y[StateSlot::BrainOsmolytes as usize] *= 0.9;
+        y[StateSlot::UreaCells as usize] *= 1.2;
+        y[StateSlot::UreaRedCells as usize] *= 1.2;
+        y[StateSlot::GlucosePlasma as usize] *= 3.0;
         let u = Inputs {
             thiazide_effect: 0.5,
             ..Default::default()
@@ -277,7 +277,7 @@ mod tests {
         // A second state with brain osmolytes above their target, so that
         // both the loss and the regain time constants are in use.
         let mut y_high = y.clone();
-        y_high[S::BrainOsmolytes as usize] *= 1.3;
+        y_high[StateSlot::BrainOsmolytes as usize] *= 1.3;
         let rates = |m: &Model| {
             let mut dy = vec![0.0; 2 * crate::body::N_STATES];
             let (a, b) = dy.split_at_mut(crate::body::N_STATES);

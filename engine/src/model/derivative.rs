@@ -3,7 +3,7 @@
 //! came in and went out.
 
 use super::{conc, Inputs, Model};
-use crate::body::S;
+use crate::body::StateSlot;
 use crate::physiology::{drugs, gut};
 
 impl Model {
@@ -13,8 +13,8 @@ impl Model {
     /// each solute balance to rounding.
     pub fn derivative(&self, y: &[f64], u: &Inputs, dy: &mut [f64]) {
         let f = self.fluxes(y, u);
-        let s = |i: S| y[i as usize];
-        let (v_p, v_i) = (s(S::PlasmaL), s(S::InterstitiumL));
+        let s = |i: StateSlot| y[i as usize];
+        let (v_p, v_i) = (s(StateSlot::PlasmaL), s(StateSlot::InterstitiumL));
         let bl = f.blood_loss_per_h;
 
         // Transcapillary flow of a small solute, plasma → interstitium:
@@ -25,39 +25,42 @@ impl Model {
             let (cp, ci) = (conc(amount_p, v_p), conc(amount_i, v_i));
             f.filtration_l_h * cp - f.lymph_l_h * ci + ps * (cp - ci)
         };
-        let t_na = transcap(s(S::NaPlasma), s(S::NaInterstitium));
-        let t_k = transcap(s(S::KPlasma), s(S::KInterstitium));
-        let t_g = transcap(s(S::GlucosePlasma), s(S::GlucoseInterstitium));
-        let t_u = transcap(s(S::UreaPlasma), s(S::UreaInterstitium));
+        let t_na = transcap(s(StateSlot::NaPlasma), s(StateSlot::NaInterstitium));
+        let t_k = transcap(s(StateSlot::KPlasma), s(StateSlot::KInterstitium));
+        let t_g = transcap(
+            s(StateSlot::GlucosePlasma),
+            s(StateSlot::GlucoseInterstitium),
+        );
+        let t_u = transcap(s(StateSlot::UreaPlasma), s(StateSlot::UreaInterstitium));
 
         let bl_water_p = bl * v_p;
-        let bl_water_r = bl * s(S::RedCellsL);
-        let bl_na = bl * s(S::NaPlasma);
-        let bl_k = bl * s(S::KPlasma);
-        let bl_g = bl * s(S::GlucosePlasma);
-        let bl_u_p = bl * s(S::UreaPlasma);
-        let bl_u_r = bl * s(S::UreaRedCells);
-        let bl_alb = bl * s(S::AlbuminPlasma);
+        let bl_water_r = bl * s(StateSlot::RedCellsL);
+        let bl_na = bl * s(StateSlot::NaPlasma);
+        let bl_k = bl * s(StateSlot::KPlasma);
+        let bl_g = bl * s(StateSlot::GlucosePlasma);
+        let bl_u_p = bl * s(StateSlot::UreaPlasma);
+        let bl_u_r = bl * s(StateSlot::UreaRedCells);
+        let bl_alb = bl * s(StateSlot::AlbuminPlasma);
 
         // The gut lumen: what is swallowed waits there and is absorbed
         // into plasma, each pool at the same fractional rate.
         let k_gut = self.calibration.gut_absorption_per_h;
-        let gut_water = gut::absorbed_per_h(s(S::GutWater), k_gut);
-        let gut_na = gut::absorbed_per_h(s(S::GutNa), k_gut);
-        let gut_k = gut::absorbed_per_h(s(S::GutK), k_gut);
-        let gut_urea = gut::absorbed_per_h(s(S::GutUrea), k_gut);
-        let gut_glucose = gut::absorbed_per_h(s(S::GutGlucose), k_gut);
+        let gut_water = gut::absorbed_per_h(s(StateSlot::GutWater), k_gut);
+        let gut_na = gut::absorbed_per_h(s(StateSlot::GutNa), k_gut);
+        let gut_k = gut::absorbed_per_h(s(StateSlot::GutK), k_gut);
+        let gut_urea = gut::absorbed_per_h(s(StateSlot::GutUrea), k_gut);
+        let gut_glucose = gut::absorbed_per_h(s(StateSlot::GutGlucose), k_gut);
 
-        let mut set = |i: S, v: f64| dy[i as usize] = v;
-        set(S::CellsL, f.cell_water_l_h);
-        set(S::BrainL, f.brain_water_l_h);
-        set(S::RedCellsL, f.red_cell_water_l_h - bl_water_r);
+        let mut set = |i: StateSlot, v: f64| dy[i as usize] = v;
+        set(StateSlot::CellsL, f.cell_water_l_h);
+        set(StateSlot::BrainL, f.brain_water_l_h);
+        set(StateSlot::RedCellsL, f.red_cell_water_l_h - bl_water_r);
         set(
-            S::InterstitiumL,
+            StateSlot::InterstitiumL,
             f.filtration_l_h - f.lymph_l_h - f.cell_water_l_h - f.brain_water_l_h,
         );
         set(
-            S::PlasmaL,
+            StateSlot::PlasmaL,
             -f.filtration_l_h + f.lymph_l_h - f.red_cell_water_l_h
                 + u.water_in_l_h
                 + gut_water
@@ -68,27 +71,27 @@ impl Model {
                 - bl_water_p,
         );
         set(
-            S::NaPlasma,
+            StateSlot::NaPlasma,
             -t_na + u.na_in_mmol_h + gut_na - u.na_out_mmol_h - f.urine_na_mmol_h - bl_na,
         );
-        set(S::NaInterstitium, t_na);
+        set(StateSlot::NaInterstitium, t_na);
         set(
-            S::KPlasma,
+            StateSlot::KPlasma,
             -t_k + u.k_in_mmol_h + gut_k - u.k_out_mmol_h - f.urine_k_mmol_h - bl_k,
         );
-        set(S::KInterstitium, t_k - f.k_into_cells_mmol_h);
-        set(S::KCells, f.k_into_cells_mmol_h);
+        set(StateSlot::KInterstitium, t_k - f.k_into_cells_mmol_h);
+        set(StateSlot::KCells, f.k_into_cells_mmol_h);
         set(
-            S::GlucosePlasma,
+            StateSlot::GlucosePlasma,
             -t_g + u.glucose_in_mmol_h + gut_glucose + f.glucose_production_mmol_h
                 - f.glucose_disposal_mmol_h
                 - u.glucose_out_mmol_h
                 - f.urine_glucose_mmol_h
                 - bl_g,
         );
-        set(S::GlucoseInterstitium, t_g);
+        set(StateSlot::GlucoseInterstitium, t_g);
         set(
-            S::UreaPlasma,
+            StateSlot::UreaPlasma,
             -t_u - f.urea_into_red_cells_mmol_h
                 + u.urea_in_mmol_h
                 + gut_urea
@@ -97,110 +100,129 @@ impl Model {
                 - f.urine_urea_mmol_h
                 - bl_u_p,
         );
-        set(S::UreaInterstitium, t_u - f.urea_into_cells_mmol_h);
-        set(S::UreaCells, f.urea_into_cells_mmol_h);
-        set(S::UreaRedCells, f.urea_into_red_cells_mmol_h - bl_u_r);
+        set(StateSlot::UreaInterstitium, t_u - f.urea_into_cells_mmol_h);
+        set(StateSlot::UreaCells, f.urea_into_cells_mmol_h);
         set(
-            S::AlbuminPlasma,
+            StateSlot::UreaRedCells,
+            f.urea_into_red_cells_mmol_h - bl_u_r,
+        );
+        set(
+            StateSlot::AlbuminPlasma,
             -f.albumin_escape_g_h + f.albumin_return_g_h + u.albumin_in_g_h
                 - u.albumin_out_g_h
                 - bl_alb,
         );
         set(
-            S::AlbuminInterstitium,
+            StateSlot::AlbuminInterstitium,
             f.albumin_escape_g_h - f.albumin_return_g_h,
         );
-        set(S::GlobulinPlasma, -bl * s(S::GlobulinPlasma));
-        set(S::RedCellOsmoles, -bl * s(S::RedCellOsmoles));
-        set(S::BrainOsmolytes, f.brain_osmolyte_mosm_h);
+        set(
+            StateSlot::GlobulinPlasma,
+            -bl * s(StateSlot::GlobulinPlasma),
+        );
+        set(
+            StateSlot::RedCellOsmoles,
+            -bl * s(StateSlot::RedCellOsmoles),
+        );
+        set(StateSlot::BrainOsmolytes, f.brain_osmolyte_mosm_h);
         let p = &self.params;
-        let absorbed = drugs::absorbed_per_h(s(S::DesmopressinDepot), p.desmopressin_absorption_h);
-        set(S::DesmopressinDepot, u.desmopressin_depot_ug_h - absorbed);
+        let absorbed =
+            drugs::absorbed_per_h(s(StateSlot::DesmopressinDepot), p.desmopressin_absorption_h);
         set(
-            S::Desmopressin,
+            StateSlot::DesmopressinDepot,
+            u.desmopressin_depot_ug_h - absorbed,
+        );
+        set(
+            StateSlot::Desmopressin,
             u.desmopressin_ug_h + absorbed
-                - drugs::eliminated_per_h(s(S::Desmopressin), p.desmopressin_half_life_h),
+                - drugs::eliminated_per_h(s(StateSlot::Desmopressin), p.desmopressin_half_life_h),
         );
         set(
-            S::V2Antagonist,
+            StateSlot::V2Antagonist,
             u.v2_antagonist_mg_h
-                - drugs::eliminated_per_h(s(S::V2Antagonist), p.v2_antagonist_half_life_h),
+                - drugs::eliminated_per_h(s(StateSlot::V2Antagonist), p.v2_antagonist_half_life_h),
         );
-        let loop_absorbed =
-            drugs::absorbed_per_h(s(S::LoopDiureticDepot), p.loop_diuretic_absorption_h);
+        let loop_absorbed = drugs::absorbed_per_h(
+            s(StateSlot::LoopDiureticDepot),
+            p.loop_diuretic_absorption_h,
+        );
         set(
-            S::LoopDiureticDepot,
+            StateSlot::LoopDiureticDepot,
             u.loop_diuretic_depot_mg_h - loop_absorbed,
         );
         set(
-            S::LoopDiuretic,
+            StateSlot::LoopDiuretic,
             u.loop_diuretic_mg_h + loop_absorbed
-                - drugs::eliminated_per_h(s(S::LoopDiuretic), p.loop_diuretic_half_life_h),
+                - drugs::eliminated_per_h(s(StateSlot::LoopDiuretic), p.loop_diuretic_half_life_h),
         );
         set(
-            S::LoopDiureticEffectSite,
+            StateSlot::LoopDiureticEffectSite,
             drugs::toward_effect_site(
-                s(S::LoopDiuretic),
-                s(S::LoopDiureticEffectSite),
+                s(StateSlot::LoopDiuretic),
+                s(StateSlot::LoopDiureticEffectSite),
                 p.loop_diuretic_effect_delay_h,
             ),
         );
         set(
-            S::RenalV2Effect,
-            (f.v2_target_pmol_l - s(S::RenalV2Effect)) / p.v2_response_h,
+            StateSlot::RenalV2Effect,
+            (f.v2_target_pmol_l - s(StateSlot::RenalV2Effect)) / p.v2_response_h,
         );
         set(
-            S::GutWater,
+            StateSlot::GutWater,
             u.oral_water_l_h + f.thirst_water_l_h - gut_water,
         );
-        set(S::GutNa, u.oral_na_mmol_h - gut_na);
-        set(S::GutK, u.oral_k_mmol_h - gut_k);
-        set(S::GutUrea, u.oral_urea_mmol_h - gut_urea);
-        set(S::GutGlucose, u.oral_glucose_mmol_h - gut_glucose);
+        set(StateSlot::GutNa, u.oral_na_mmol_h - gut_na);
+        set(StateSlot::GutK, u.oral_k_mmol_h - gut_k);
+        set(StateSlot::GutUrea, u.oral_urea_mmol_h - gut_urea);
+        set(StateSlot::GutGlucose, u.oral_glucose_mmol_h - gut_glucose);
 
         set(
-            S::InWater,
+            StateSlot::InWater,
             u.water_in_l_h + u.oral_water_l_h + f.thirst_water_l_h + f.metabolic_water_l_h,
         );
-        set(S::InNa, u.na_in_mmol_h + u.oral_na_mmol_h);
-        set(S::InK, u.k_in_mmol_h + u.oral_k_mmol_h);
+        set(StateSlot::InNa, u.na_in_mmol_h + u.oral_na_mmol_h);
+        set(StateSlot::InK, u.k_in_mmol_h + u.oral_k_mmol_h);
         set(
-            S::InUrea,
+            StateSlot::InUrea,
             u.urea_in_mmol_h + u.oral_urea_mmol_h + f.urea_generation_mmol_h,
         );
         set(
-            S::InGlucose,
+            StateSlot::InGlucose,
             u.glucose_in_mmol_h + u.oral_glucose_mmol_h + f.glucose_production_mmol_h,
         );
-        set(S::InAlbumin, u.albumin_in_g_h);
+        set(StateSlot::InAlbumin, u.albumin_in_g_h);
 
         set(
-            S::OutWater,
+            StateSlot::OutWater,
             u.water_out_l_h + f.urine_l_h + f.insensible_l_h + bl_water_p + bl_water_r,
         );
-        set(S::OutNa, u.na_out_mmol_h + f.urine_na_mmol_h + bl_na);
-        set(S::OutK, u.k_out_mmol_h + f.urine_k_mmol_h + bl_k);
         set(
-            S::OutUrea,
+            StateSlot::OutNa,
+            u.na_out_mmol_h + f.urine_na_mmol_h + bl_na,
+        );
+        set(StateSlot::OutK, u.k_out_mmol_h + f.urine_k_mmol_h + bl_k);
+        set(
+            StateSlot::OutUrea,
             u.urea_out_mmol_h + f.urine_urea_mmol_h + bl_u_p + bl_u_r,
         );
         set(
-            S::OutGlucose,
+            StateSlot::OutGlucose,
             u.glucose_out_mmol_h + f.urine_glucose_mmol_h + f.glucose_disposal_mmol_h + bl_g,
         );
-        set(S::OutAlbumin, u.albumin_out_g_h + bl_alb);
-        set(S::UrineL, f.urine_l_h);
-        set(S::UrineNa, f.urine_na_mmol_h);
-        set(S::UrineK, f.urine_k_mmol_h);
+        set(StateSlot::OutAlbumin, u.albumin_out_g_h + bl_alb);
+        set(StateSlot::UrineL, f.urine_l_h);
+        set(StateSlot::UrineNa, f.urine_na_mmol_h);
+        set(StateSlot::UrineK, f.urine_k_mmol_h);
         // Electrolyte-free water clearance, L/h (Rose, Am J Med 1986):
         // urine flow less the water that would carry its sodium and
         // potassium at the plasma sodium concentration.
         set(
-            S::UrineFreeWaterL,
-            f.urine_l_h - (f.urine_na_mmol_h + f.urine_k_mmol_h) / conc(s(S::NaPlasma), v_p),
+            StateSlot::UrineFreeWaterL,
+            f.urine_l_h
+                - (f.urine_na_mmol_h + f.urine_k_mmol_h) / conc(s(StateSlot::NaPlasma), v_p),
         );
-        set(S::InfusedWaterL, u.water_in_l_h);
-        set(S::InfusedNa, u.na_in_mmol_h);
-        set(S::InfusedK, u.k_in_mmol_h);
+        set(StateSlot::InfusedWaterL, u.water_in_l_h);
+        set(StateSlot::InfusedNa, u.na_in_mmol_h);
+        set(StateSlot::InfusedK, u.k_in_mmol_h);
     }
 }

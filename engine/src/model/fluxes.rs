@@ -4,7 +4,7 @@
 //! the observations alike.
 
 use super::{conc, Inputs, Model};
-use crate::body::S;
+use crate::body::StateSlot;
 use crate::physiology::{
     blood_volume, brain, capillary, drugs, glucose, kidney, membrane, osmoregulation, potassium,
 };
@@ -85,32 +85,32 @@ impl Model {
     pub fn fluxes(&self, y: &[f64], u: &Inputs) -> Fluxes {
         let c = &self.calibration;
         let p = &self.params;
-        let s = |i: S| y[i as usize];
+        let s = |i: StateSlot| y[i as usize];
         let (v_c, v_r, v_b, v_i, v_p) = (
-            s(S::CellsL),
-            s(S::RedCellsL),
-            s(S::BrainL),
-            s(S::InterstitiumL),
-            s(S::PlasmaL),
+            s(StateSlot::CellsL),
+            s(StateSlot::RedCellsL),
+            s(StateSlot::BrainL),
+            s(StateSlot::InterstitiumL),
+            s(StateSlot::PlasmaL),
         );
-        let na_p = conc(s(S::NaPlasma), v_p);
-        let na_i = conc(s(S::NaInterstitium), v_i);
-        let k_p = conc(s(S::KPlasma), v_p);
-        let k_i = conc(s(S::KInterstitium), v_i);
-        let k_c = conc(s(S::KCells), v_c);
-        let g_p = conc(s(S::GlucosePlasma), v_p);
-        let g_i = conc(s(S::GlucoseInterstitium), v_i);
-        let u_p = conc(s(S::UreaPlasma), v_p);
-        let u_i = conc(s(S::UreaInterstitium), v_i);
-        let u_c = conc(s(S::UreaCells), v_c + v_b);
-        let u_r = conc(s(S::UreaRedCells), v_r);
+        let na_p = conc(s(StateSlot::NaPlasma), v_p);
+        let na_i = conc(s(StateSlot::NaInterstitium), v_i);
+        let k_p = conc(s(StateSlot::KPlasma), v_p);
+        let k_i = conc(s(StateSlot::KInterstitium), v_i);
+        let k_c = conc(s(StateSlot::KCells), v_c);
+        let g_p = conc(s(StateSlot::GlucosePlasma), v_p);
+        let g_i = conc(s(StateSlot::GlucoseInterstitium), v_i);
+        let u_p = conc(s(StateSlot::UreaPlasma), v_p);
+        let u_i = conc(s(StateSlot::UreaInterstitium), v_i);
+        let u_c = conc(s(StateSlot::UreaCells), v_c + v_b);
+        let u_r = conc(s(StateSlot::UreaRedCells), v_r);
 
         // Cell membranes: effective osmolality differences (σ-weighted).
         let eff_i = 2.0 * (na_i + k_i) + g_i;
         let eff_p = 2.0 * (na_p + k_p) + g_p;
-        let eff_c = conc(2.0 * s(S::KCells) + c.cell_fixed_mosm, v_c);
-        let eff_b = conc(c.brain_fixed_mosm + s(S::BrainOsmolytes), v_b);
-        let eff_r = conc(s(S::RedCellOsmoles), v_r);
+        let eff_c = conc(2.0 * s(StateSlot::KCells) + c.cell_fixed_mosm, v_c);
+        let eff_b = conc(c.brain_fixed_mosm + s(StateSlot::BrainOsmolytes), v_b);
+        let eff_r = conc(s(StateSlot::RedCellOsmoles), v_r);
         let cell_water = membrane::water_flow_l_h(
             c.cell_conductance,
             c.rt,
@@ -129,8 +129,8 @@ impl Model {
 
         // Capillaries and lymph.
         let red_cell_volume =
-            v_r + c.red_cell_solids_l * s(S::RedCellOsmoles) / c.red_cell_osmoles0;
-        let plasma_protein = s(S::AlbuminPlasma) + s(S::GlobulinPlasma);
+            v_r + c.red_cell_solids_l * s(StateSlot::RedCellOsmoles) / c.red_cell_osmoles0;
+        let plasma_protein = s(StateSlot::AlbuminPlasma) + s(StateSlot::GlobulinPlasma);
         let plasma_volume = v_p + c.plasma_solids_l * plasma_protein / c.plasma_protein0_g;
         let (hematocrit, blood_volume) = blood_volume::hematocrit(red_cell_volume, plasma_volume);
         let capillary_mmhg =
@@ -138,7 +138,10 @@ impl Model {
         let interstitial_mmhg = c.interstitium.pressure_mmhg(v_i);
         let plasma_colloid = capillary::landis_pappenheimer_mmhg(conc(plasma_protein, v_p) / 10.0);
         let interstitial_colloid = capillary::landis_pappenheimer_mmhg(
-            conc(s(S::AlbuminInterstitium) + c.interstitial_globulin_g, v_i) / 10.0,
+            conc(
+                s(StateSlot::AlbuminInterstitium) + c.interstitial_globulin_g,
+                v_i,
+            ) / 10.0,
         );
         let filtration = capillary::starling_filtration_l_h(
             c.kf_l_h_mmhg,
@@ -159,11 +162,12 @@ impl Model {
             p.overfill_leak_threshold_fraction,
             p.overfill_albumin_leak_gain,
         );
-        let albumin_escape = p.albumin_escape_per_h * overfill * s(S::AlbuminPlasma).max(0.0);
+        let albumin_escape =
+            p.albumin_escape_per_h * overfill * s(StateSlot::AlbuminPlasma).max(0.0);
         // Albumin returns with lymph; the return grows less than in
         // proportion to lymph flow (lymph protein falls as flow rises).
         let albumin_return = c.albumin_return_per_h
-            * s(S::AlbuminInterstitium).max(0.0)
+            * s(StateSlot::AlbuminInterstitium).max(0.0)
             * crate::physiology::power(
                 (lymph / c.lymph0_l_h).max(0.0),
                 p.albumin_return_flow_exponent,
@@ -188,7 +192,7 @@ impl Model {
         let brain_target =
             brain::target_osmolytes_mosm(eff_i, c.brain_normal_l, c.brain_fixed_mosm);
         let brain_osmolyte = brain::osmolyte_rate_mosm_h(
-            s(S::BrainOsmolytes),
+            s(StateSlot::BrainOsmolytes),
             brain_target,
             p.brain_osmolyte_loss_h,
             p.brain_osmolyte_regain_h,
@@ -211,19 +215,19 @@ impl Model {
         // V2 agonism: vasopressin plus desmopressin, blunted by an antagonist;
         // the collecting duct follows it with a lag (state RenalV2Effect).
         let desmopressin_equiv =
-            p.desmopressin_avp_equiv_pmol_l_per_ug * s(S::Desmopressin).max(0.0);
-        let antagonism = drugs::v2_agonism_left(s(S::V2Antagonist), p.v2_antagonist_ki_mg);
+            p.desmopressin_avp_equiv_pmol_l_per_ug * s(StateSlot::Desmopressin).max(0.0);
+        let antagonism = drugs::v2_agonism_left(s(StateSlot::V2Antagonist), p.v2_antagonist_ki_mg);
         let v2_target = (vasopressin + desmopressin_equiv) * antagonism;
         let thiazide = u.thiazide_effect.clamp(0.0, 1.0);
         let loop_effect = drugs::loop_effect(
-            s(S::LoopDiureticEffectSite),
+            s(StateSlot::LoopDiureticEffectSite),
             p.loop_diuretic_ec50_mg,
             p.loop_diuretic_hill,
         );
         let osm_min =
             c.urine_osm_min + thiazide * (p.thiazide_min_urine_osm - c.urine_osm_min).max(0.0);
         let concentrated = kidney::urine_osmolality(
-            s(S::RenalV2Effect),
+            s(StateSlot::RenalV2Effect),
             osm_min,
             c.urine_osm_max.max(osm_min),
             p.avp_half_max_pmol_l,

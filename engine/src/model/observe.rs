@@ -2,7 +2,7 @@
 //! instant, derived from the state and the flows.
 
 use super::{conc, Inputs, Model};
-use crate::body::S;
+use crate::body::StateSlot;
 use crate::physiology::kidney;
 use crate::units;
 use serde::Serialize;
@@ -83,28 +83,28 @@ impl Model {
     /// filtration, lymph, vasopressin, urine and clearances) are NaN.
     pub fn observe_state(&self, y: &[f64]) -> Observation {
         let c = &self.calibration;
-        let s = |i: S| y[i as usize];
-        let v_p = s(S::PlasmaL);
-        let na = conc(s(S::NaPlasma), v_p);
-        let g = conc(s(S::GlucosePlasma), v_p);
-        let urea = conc(s(S::UreaPlasma), v_p);
+        let s = |i: StateSlot| y[i as usize];
+        let v_p = s(StateSlot::PlasmaL);
+        let na = conc(s(StateSlot::NaPlasma), v_p);
+        let g = conc(s(StateSlot::GlucosePlasma), v_p);
+        let urea = conc(s(StateSlot::UreaPlasma), v_p);
         let nan = f64::NAN;
         Observation {
             na_mmol_l: na,
-            k_mmol_l: conc(s(S::KPlasma), v_p),
+            k_mmol_l: conc(s(StateSlot::KPlasma), v_p),
             glucose_mmol_l: g,
             urea_mmol_l: urea,
-            albumin_g_l: conc(s(S::AlbuminPlasma), v_p),
+            albumin_g_l: conc(s(StateSlot::AlbuminPlasma), v_p),
             osmolality_mosm_kg: 2.0 * na + g + urea,
             tonicity_mosm_kg: 2.0 * na + g,
-            cells_l: s(S::CellsL),
-            red_cells_l: s(S::RedCellsL),
-            brain_l: s(S::BrainL),
-            interstitium_l: s(S::InterstitiumL),
+            cells_l: s(StateSlot::CellsL),
+            red_cells_l: s(StateSlot::RedCellsL),
+            brain_l: s(StateSlot::BrainL),
+            interstitium_l: s(StateSlot::InterstitiumL),
             plasma_l: v_p,
             total_water_l: crate::body::total_water_l(y),
-            gut_ml: units::l_to_ml(s(S::GutWater)),
-            brain_volume_index: s(S::BrainL) / c.brain_normal_l,
+            gut_ml: units::l_to_ml(s(StateSlot::GutWater)),
+            brain_volume_index: s(StateSlot::BrainL) / c.brain_normal_l,
             hematocrit: nan,
             blood_volume_l: nan,
             capillary_mmhg: nan,
@@ -128,12 +128,12 @@ impl Model {
     pub fn observe(&self, y: &[f64], u: &Inputs) -> Observation {
         let f = self.fluxes(y, u);
         let c = &self.calibration;
-        let s = |i: S| y[i as usize];
-        let v_p = s(S::PlasmaL);
-        let na = conc(s(S::NaPlasma), v_p);
-        let k = conc(s(S::KPlasma), v_p);
-        let g = conc(s(S::GlucosePlasma), v_p);
-        let urea = conc(s(S::UreaPlasma), v_p);
+        let s = |i: StateSlot| y[i as usize];
+        let v_p = s(StateSlot::PlasmaL);
+        let na = conc(s(StateSlot::NaPlasma), v_p);
+        let k = conc(s(StateSlot::KPlasma), v_p);
+        let g = conc(s(StateSlot::GlucosePlasma), v_p);
+        let urea = conc(s(StateSlot::UreaPlasma), v_p);
         let osm = 2.0 * na + g + urea;
         let urine_ml_h = units::l_to_ml(f.urine_l_h);
         let (u_na, u_k) = if f.urine_l_h > 1e-12 {
@@ -149,17 +149,17 @@ impl Model {
             k_mmol_l: k,
             glucose_mmol_l: g,
             urea_mmol_l: urea,
-            albumin_g_l: conc(s(S::AlbuminPlasma), v_p),
+            albumin_g_l: conc(s(StateSlot::AlbuminPlasma), v_p),
             osmolality_mosm_kg: osm,
             tonicity_mosm_kg: 2.0 * na + g,
-            cells_l: s(S::CellsL),
-            red_cells_l: s(S::RedCellsL),
-            brain_l: s(S::BrainL),
-            interstitium_l: s(S::InterstitiumL),
+            cells_l: s(StateSlot::CellsL),
+            red_cells_l: s(StateSlot::RedCellsL),
+            brain_l: s(StateSlot::BrainL),
+            interstitium_l: s(StateSlot::InterstitiumL),
             plasma_l: v_p,
             total_water_l: crate::body::total_water_l(y),
-            gut_ml: units::l_to_ml(s(S::GutWater)),
-            brain_volume_index: s(S::BrainL) / c.brain_normal_l,
+            gut_ml: units::l_to_ml(s(StateSlot::GutWater)),
+            brain_volume_index: s(StateSlot::BrainL) / c.brain_normal_l,
             hematocrit: f.hematocrit,
             blood_volume_l: f.blood_volume_l,
             capillary_mmhg: f.capillary_mmhg,

@@ -4,7 +4,7 @@
 //! returns its piece; [`Model::new`](super::Model::new) gathers them into a
 //! [`Calibration`](super::Calibration) and the initial state.
 
-use crate::body::{N_STATES, S};
+use crate::body::{StateSlot, N_STATES};
 use crate::error::InputError;
 use crate::params::Params;
 use crate::patient::{Onset, ResolvedPatient};
@@ -379,26 +379,26 @@ pub(super) fn initial_state(
         patient.urea_mmol_l,
     );
     let (v_c, v_r, v_b, v_i, v_p) = (w.v_c, w.v_r, w.v_b, w.v_i, w.v_p);
-    y[S::CellsL as usize] = v_c;
-    y[S::RedCellsL as usize] = v_r;
-    y[S::BrainL as usize] = v_b;
-    y[S::InterstitiumL as usize] = v_i;
-    y[S::PlasmaL as usize] = v_p;
-    y[S::NaPlasma as usize] = na * v_p;
-    y[S::NaInterstitium as usize] = na * v_i;
-    y[S::KPlasma as usize] = k * v_p;
-    y[S::KInterstitium as usize] = k * v_i;
-    y[S::KCells as usize] = w.k_cells;
-    y[S::GlucosePlasma as usize] = g * v_p;
-    y[S::GlucoseInterstitium as usize] = g * v_i;
-    y[S::UreaPlasma as usize] = u * v_p;
-    y[S::UreaInterstitium as usize] = u * v_i;
-    y[S::UreaCells as usize] = u * (v_c + v_b);
-    y[S::UreaRedCells as usize] = u * v_r;
-    y[S::AlbuminPlasma as usize] = cap.albumin_p;
-    y[S::AlbuminInterstitium as usize] = cap.albumin_i;
-    y[S::GlobulinPlasma as usize] = cap.globulin_p;
-    y[S::RedCellOsmoles as usize] = w.red_cell_osmoles;
-    y[S::BrainOsmolytes as usize] = w.brain_osmolytes;
+    y[StateSlot::CellsL as usize] = v_c;
+    y[StateSlot::RedCellsL as usize] = v_r;
+    y[StateSlot::BrainL as usize] = v_b;
+    y[StateSlot::InterstitiumL as usize] = v_i;
+    y[StateSlot::PlasmaL as usize] = v_p;
+    y[StateSlot::NaPlasma as usize] = na * v_p;
+    y[StateSlot::NaInterstitium as usize] = na * v_i;
+    y[StateSlot::KPlasma as usize] = k * v_p;
+    y[StateSlot::KInterstitium as usize] = k * v_i;
+    y[StateSlot::KCells as usize] = w.k_cells;
+    y[StateSlot::GlucosePlasma as usize] = g * v_p;
+    y[StateSlot::GlucoseInterstitium as usize] = g * v_i;
+    y[StateSlot::UreaPlasma as usize] = u * v_p;
+    y[StateSlot::UreaInterstitium as usize] = u * v_i;
+    y[StateSlot::UreaCells as usize] = u * (v_c + v_b);
+    y[StateSlot::UreaRedCells as usize] = u * v_r;
+    y[StateSlot::AlbuminPlasma as usize] = cap.albumin_p;
+    y[StateSlot::AlbuminInterstitium as usize] = cap.albumin_i;
+    y[StateSlot::GlobulinPlasma as usize] = cap.globulin_p;
+    y[StateSlot::RedCellOsmoles as usize] = w.red_cell_osmoles;
+    y[StateSlot::BrainOsmolytes as usize] = w.brain_osmolytes;
     y
 }

@@ -10,7 +10,7 @@
 //! explains it.
 
 use super::{Calibration, Inputs, Model, Switches, WaterIntakeSource};
-use crate::body::S;
+use crate::body::StateSlot;
 use crate::causes::Cause;
 use crate::error::InputError;
 use crate::params::Params;
@@ -58,7 +58,7 @@ pub fn check_sodium_is_explained(
 /// collecting duct in step with plasma vasopressin, at a given threshold.
 fn urine_at(model: &mut Model, y: &mut [f64], standing: &Inputs, threshold: f64) -> (f64, f64) {
     model.calibration.avp_threshold_mosm_kg = threshold;
-    y[S::RenalV2Effect as usize] = model.fluxes(y, standing).v2_target_pmol_l;
+    y[StateSlot::RenalV2Effect as usize] = model.fluxes(y, standing).v2_target_pmol_l;
     let f = model.fluxes(y, standing);
     (f.urine_l_h, f.vasopressin_pmol_l)
 }

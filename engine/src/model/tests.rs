@@ -5,7 +5,7 @@ use crate::Sex;
 
 use super::{Inputs, Model, Switches};
 use crate::body::Species;
-use crate::body::{Body, N_STATES, S};
+use crate::body::{Body, StateSlot, N_STATES};
 use crate::params::Params;
 use crate::patient::Patient;
 
@@ -26,7 +26,7 @@ fn initial_state_is_steady() {
         .iter()
         .zip(body.y.iter())
         .enumerate()
-        .take(S::InWater as usize)
+        .take(StateSlot::InWater as usize)
     {
         let scale = value.abs().max(1e-3);
         assert!(
@@ -46,9 +46,9 @@ fn compartments_follow_rules_of_thumb() {
     let tbw = body.total_water_l();
     assert!((tbw - 42.0).abs() < 1e-9);
     assert!((body.extracellular_l() / tbw - 1.0 / 3.0).abs() < 1e-3);
-    let v_c = body.get(S::CellsL);
+    let v_c = body.get(StateSlot::CellsL);
     assert!((24.0..=28.0).contains(&v_c), "{v_c}");
-    let v_r = body.get(S::RedCellsL);
+    let v_r = body.get(StateSlot::RedCellsL);
     assert!((1.5..=2.2).contains(&v_r), "{v_r}");
 }
 
@@ -149,7 +149,12 @@ fn drinking_at_will_takes_the_place_of_habitual_drinks_and_the_start_stays_stead
     assert!(onset - own < 3.0, "onset {onset}, own threshold {own}");
     let mut dy = vec![0.0; N_STATES];
     model.derivative(&body.y, &u, &mut dy);
-    for (i, (rate, value)) in dy.iter().zip(&body.y).enumerate().take(S::InWater as usize) {
+    for (i, (rate, value)) in dy
+        .iter()
+        .zip(&body.y)
+        .enumerate()
+        .take(StateSlot::InWater as usize)
+    {
         assert!(
             rate.abs() / value.abs().max(1e-3) < 1e-9,
             "{} drifts: {rate}",
@@ -158,6 +163,6 @@ fn drinking_at_will_takes_the_place_of_habitual_drinks_and_the_start_stays_stead
     }
     // Plasma diluted by 2 mOsm/kg: thirst stops.
     let mut diluted = body.y.clone();
-    diluted[S::PlasmaL as usize] *= 1.01;
+    diluted[StateSlot::PlasmaL as usize] *= 1.01;
     assert_eq!(model.fluxes(&diluted, &u).thirst_water_l_h, 0.0);
 }

@@ -368,7 +368,7 @@ impl Simulation {
 
 /// Error if a body pool has become negative (beyond rounding).
 fn check_negative(y: &[f64], t: f64, scales: &[f64]) -> Result<(), SimulationError> {
-    for i in 0..crate::body::S::InWater as usize {
+    for i in 0..crate::body::StateSlot::InWater as usize {
         if y[i] < -1e-7 * scales[i] || !y[i].is_finite() {
             return Err(SimulationError::Negative {
                 time_h: t,

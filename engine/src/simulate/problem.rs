@@ -109,21 +109,26 @@ pub(super) fn build_problem(
     let sodium = crate::body::Species::Sodium.content(y0);
     let potassium = crate::body::Species::Potassium.content(y0);
     {
-        use crate::body::S;
-        for s in [S::UrineL, S::UrineFreeWaterL, S::InfusedWaterL] {
+        use crate::body::StateSlot;
+        for s in [
+            StateSlot::UrineL,
+            StateSlot::UrineFreeWaterL,
+            StateSlot::InfusedWaterL,
+        ] {
             scale[s as usize] = water;
         }
-        for s in [S::UrineNa, S::InfusedNa] {
+        for s in [StateSlot::UrineNa, StateSlot::InfusedNa] {
             scale[s as usize] = sodium;
         }
-        for s in [S::UrineK, S::InfusedK] {
+        for s in [StateSlot::UrineK, StateSlot::InfusedK] {
             scale[s as usize] = potassium;
         }
     }
     // A thousandth of what the species holds in the body.
     scale_transit_pools(y0, &mut scale, 1e-3);
-    scale[crate::body::S::BrainOsmolytes as usize] =
-        scale[crate::body::S::BrainOsmolytes as usize].max(model.calibration.brain_fixed_mosm);
+    scale[crate::body::StateSlot::BrainOsmolytes as usize] = scale
+        [crate::body::StateSlot::BrainOsmolytes as usize]
+        .max(model.calibration.brain_fixed_mosm);
     let atol: Vec<f64> = scale.iter().map(|s| s * tol.atol_fraction).collect();
     let rhs_model = model.clone();
     let rhs: RhsFn = Box::new(move |x: &[T], p: &[T], _t: T, y: &mut [T]| {
@@ -155,25 +160,25 @@ pub(super) fn build_problem(
 /// Pools that empty to nothing between doses and drinks: the gut lumen,
 /// with the species each holds, and the drug depots and amounts, with the
 /// drug's usual dose.
-const GUT_POOLS: [(crate::body::S, crate::body::Species); 5] = {
-    use crate::body::{Species, S};
+const GUT_POOLS: [(crate::body::StateSlot, crate::body::Species); 5] = {
+    use crate::body::{Species, StateSlot};
     [
-        (S::GutWater, Species::Water),
-        (S::GutNa, Species::Sodium),
-        (S::GutK, Species::Potassium),
-        (S::GutUrea, Species::Urea),
-        (S::GutGlucose, Species::Glucose),
+        (StateSlot::GutWater, Species::Water),
+        (StateSlot::GutNa, Species::Sodium),
+        (StateSlot::GutK, Species::Potassium),
+        (StateSlot::GutUrea, Species::Urea),
+        (StateSlot::GutGlucose, Species::Glucose),
     ]
 };
-const DRUG_POOLS: [(crate::body::S, f64); 6] = {
-    use crate::body::S;
+const DRUG_POOLS: [(crate::body::StateSlot, f64); 6] = {
+    use crate::body::StateSlot;
     [
-        (S::LoopDiureticDepot, 40.0),
-        (S::LoopDiuretic, 40.0),
-        (S::LoopDiureticEffectSite, 40.0),
-        (S::V2Antagonist, 15.0),
-        (S::DesmopressinDepot, 2.0),
-        (S::Desmopressin, 2.0),
+        (StateSlot::LoopDiureticDepot, 40.0),
+        (StateSlot::LoopDiuretic, 40.0),
+        (StateSlot::LoopDiureticEffectSite, 40.0),
+        (StateSlot::V2Antagonist, 15.0),
+        (StateSlot::DesmopressinDepot, 2.0),
+        (StateSlot::Desmopressin, 2.0),
     ]
 };
 

@@ -128,7 +128,7 @@ fn stream_totals_count_what_each_stream_really_gave() {
     assert!((hyper.na_in_mmol - 513.0 * hyper.water_in_l).abs() < 1e-9);
     // The sum over streams is what the ledger counted as infused sodium.
     let infused: f64 = traj.stream_totals.iter().map(|s| s.na_in_mmol).sum();
-    let ledger = traj.last().y[crate::body::S::InfusedNa as usize];
+    let ledger = traj.last().y[crate::body::StateSlot::InfusedNa as usize];
     assert!(
         (infused - ledger).abs() < 1e-6 * ledger,
         "{infused} vs {ledger}"

@@ -11,7 +11,7 @@
 //! The vocabulary, with its arguments and units, is listed by [`METRICS`]
 //! and documented in `tests/validation/README.md`.
 
-use crate::body::{Species, S};
+use crate::body::{Species, StateSlot};
 use crate::trajectory::{interpolate, Trajectory};
 use crate::units;
 use std::collections::BTreeMap;
@@ -356,7 +356,8 @@ impl Metric {
         let at = |v: &[f64], h: f64| value_at(&t, v, h);
         let window = |v: &[f64], h: f64| extremes(&t, v, t[0], h);
         let per_load = |gain_l: f64, load_ml: f64| units::l_to_ml(gain_l) / load_ml;
-        let ledger = |s: S| -> Vec<f64> { traj.samples.iter().map(|x| x.y[s as usize]).collect() };
+        let ledger =
+            |s: StateSlot| -> Vec<f64> { traj.samples.iter().map(|x| x.y[s as usize]).collect() };
         let urine_na_rate = column(traj, |s| s.obs.urine_ml_h / 1000.0 * s.obs.urine_na_mmol_l); // mmol/h
         use MetricKind as M;
         let value = match self.kind {
@@ -394,15 +395,15 @@ impl Metric {
                 }
             }
             M::UrineVolume => {
-                let u = ledger(S::UrineL);
+                let u = ledger(StateSlot::UrineL);
                 units::l_to_ml(at(&u, self.arg("to_h")) - at(&u, self.arg("from_h")))
             }
             M::UrineVolumeFractionOfLoad => {
-                let u = ledger(S::UrineL);
+                let u = ledger(StateSlot::UrineL);
                 per_load(at(&u, self.arg("over_h")) - u[0], self.arg("load_ml"))
             }
             M::UrineVolumeExcessFractionOfLoad => {
-                let u = ledger(S::UrineL);
+                let u = ledger(StateSlot::UrineL);
                 let h = self.arg("over_h");
                 let baseline = traj.samples[0].obs.urine_ml_h / 1000.0 * (h - t[0]);
                 per_load(at(&u, h) - u[0] - baseline, self.arg("load_ml"))
@@ -484,7 +485,7 @@ impl Metric {
             }
             M::KLoadFractionLeftEcf => {
                 let ecf = column(traj, |s| {
-                    s.y[S::KPlasma as usize] + s.y[S::KInterstitium as usize]
+                    s.y[StateSlot::KPlasma as usize] + s.y[StateSlot::KInterstitium as usize]
                 });
                 1.0 - (at(&ecf, self.arg("at_h")) - ecf[0]) / self.arg("load_mmol")
             }

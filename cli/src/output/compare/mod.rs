@@ -88,7 +88,7 @@ impl Headline {
         let given = s.given.iter().filter(|g| g.stream != "habitual");
         let traj = &m.input.trajectory;
         // The ledger's cumulative urine (exact to the solver's tolerance).
-        let urine = |y: &[f64]| y[tidewater::S::UrineL as usize];
+        let urine = |y: &[f64]| y[tidewater::StateSlot::UrineL as usize];
         let urine_ml = (urine(&traj.last().y) - urine(&traj.samples[0].y)) * 1000.0;
         Headline {
             scenario: m.input.name.clone(),

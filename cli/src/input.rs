@@ -173,14 +173,33 @@ pub fn load_script(path: &Path) -> Result<RunInput> {
         .unwrap_or_default()
         .to_string_lossy()
         .to_string();
+    from_scenario_run(
+        &scenario,
+        scenario.plan(),
+        run,
+        slug(&stem),
+        path.display().to_string(),
+    )
+}
+
+/// A run input from a scenario's finished run of `plan` (the script's own
+/// plan, or one changed by settings), named `name` (folders) and coming
+/// from `source` (the script path, or what a caller calls it).
+pub fn from_scenario_run(
+    scenario: &tidewater::scenario::Scenario,
+    plan: &Plan,
+    run: tidewater::scenario::ScenarioRun,
+    name: String,
+    source: String,
+) -> Result<RunInput> {
     RunInput::assemble(
         Heading {
-            name: slug(&stem),
+            name,
             title: scenario.title().into(),
             description: scenario.description().into(),
-            source: path.display().to_string(),
+            source,
         },
-        scenario.plan(),
+        plan,
         run.trajectory,
         run.expectations
             .into_iter()

@@ -16,22 +16,22 @@
 //! * `pool.rs`: the ordered worker pool of `check` and `sweep`;
 //!   `progress.rs`: progress bars; `format.rs`: numbers as text.
 
-mod bedside_summary;
 mod check;
 mod cli;
 mod commands;
 mod fit_command;
-mod format;
-mod input;
 mod options;
 mod output;
 mod plan_command;
 mod pool;
 mod progress;
 mod scripts;
-mod summary;
 mod sweep_command;
 mod validate;
+
+// What a report is made of lives in the library (`lib.rs`), shared with
+// the Python package.
+use tidewater_cli::{bedside_summary, format, input, summary};
 
 use anyhow::Result;
 use clap::{CommandFactory, FromArgMatches};

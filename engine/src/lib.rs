@@ -114,8 +114,10 @@ pub mod yaml;
 pub use body::{Body, Species, StateSlot, N_STATES_BODY, STATE_NAMES};
 pub use causes::Cause;
 pub use error::{InputError, SimulationError};
-pub use fluids::{Fluid, FluidLibrary};
-pub use model::{Inputs, Model, Observation, StartBalance, Switches, WaterIntakeSource};
+pub use fluids::{Fluid, FluidKind, FluidLibrary};
+pub use model::{
+    check_change, Inputs, Model, Observation, StartBalance, Switches, WaterIntakeSource,
+};
 pub use model_range::OutsideRange;
 pub use params::{Params, PARAMETERS};
 pub use patient::{

@@ -251,8 +251,7 @@ pub fn stop_all() -> Action {
 /// value in its unit).
 #[pyfunction]
 pub fn change_param(py: Python<'_>, name: String, value: f64) -> PyResult<Action> {
-    tidewater::model::check_change(&name, value)
-        .map_err(|e| Failure::input(&e, None).into_pyerr(py))?;
+    tidewater::check_change(&name, value).map_err(|e| Failure::input(&e, None).into_pyerr(py))?;
     Ok(Action::new(ActionSpec::ChangeParam { name, value }, None))
 }
 

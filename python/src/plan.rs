@@ -50,6 +50,15 @@ impl Patient {
         symptoms: Option<String>,
         cause: Option<String>,
     ) -> PyResult<Patient> {
+        // A word is checked where it is given, naming its field.
+        fn word<W: tidewater::Word>(py: Python<'_>, text: Option<String>) -> PyResult<Option<W>> {
+            text.map(|t| W::parse(&t).map_err(|e| Failure::input(&e, None).into_pyerr(py)))
+                .transpose()
+        }
+        let sex = <tidewater::Sex as tidewater::Word>::parse(sex)
+            .map_err(|e| Failure::input(&e, None).into_pyerr(py))?;
+        let (water_method, onset) = (word(py, water_method)?, word(py, onset)?);
+        let (symptoms, cause) = (word(py, symptoms)?, word(py, cause)?);
         let inner = tidewater::Patient {
             na,
             k,

@@ -3,7 +3,7 @@
 
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
-use tidewater::fluids::FluidKind;
+use tidewater::FluidKind;
 use tidewater::{FluidLibrary, PARAMETERS};
 
 /// Every model parameter: name, unit, default, min, max, meaning, source.

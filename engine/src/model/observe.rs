@@ -124,17 +124,12 @@ impl Model {
         }
     }
 
-    /// Derived labs and flows at state `y` under inputs `u`.
+    /// Derived labs and flows at state `y` under inputs `u`: what the state
+    /// gives ([`Model::observe_state`]) and what the flows add.
     pub fn observe(&self, y: &[f64], u: &Inputs) -> Observation {
         let f = self.fluxes(y, u);
-        let c = &self.calibration;
-        let s = |i: StateSlot| y[i as usize];
-        let v_p = s(StateSlot::PlasmaL);
-        let na = conc(s(StateSlot::NaPlasma), v_p);
-        let k = conc(s(StateSlot::KPlasma), v_p);
-        let g = conc(s(StateSlot::GlucosePlasma), v_p);
-        let urea = conc(s(StateSlot::UreaPlasma), v_p);
-        let osm = 2.0 * na + g + urea;
+        let state = self.observe_state(y);
+        let (na, osm) = (state.na_mmol_l, state.osmolality_mosm_kg);
         let urine_ml_h = units::l_to_ml(f.urine_l_h);
         let (u_na, u_k) = if f.urine_l_h > 1e-12 {
             (
@@ -145,21 +140,6 @@ impl Model {
             (0.0, 0.0)
         };
         Observation {
-            na_mmol_l: na,
-            k_mmol_l: k,
-            glucose_mmol_l: g,
-            urea_mmol_l: urea,
-            albumin_g_l: conc(s(StateSlot::AlbuminPlasma), v_p),
-            osmolality_mosm_kg: osm,
-            tonicity_mosm_kg: 2.0 * na + g,
-            cells_l: s(StateSlot::CellsL),
-            red_cells_l: s(StateSlot::RedCellsL),
-            brain_l: s(StateSlot::BrainL),
-            interstitium_l: s(StateSlot::InterstitiumL),
-            plasma_l: v_p,
-            total_water_l: crate::body::total_water_l(y),
-            gut_ml: units::l_to_ml(s(StateSlot::GutWater)),
-            brain_volume_index: s(StateSlot::BrainL) / c.brain_normal_l,
             hematocrit: f.hematocrit,
             blood_volume_l: f.blood_volume_l,
             capillary_mmhg: f.capillary_mmhg,
@@ -180,6 +160,7 @@ impl Model {
             efwc_ml_h: kidney::electrolyte_free_water_clearance(urine_ml_h, u_na, u_k, na),
             osmolar_clearance_ml_h: kidney::osmolar_clearance(urine_ml_h, f.urine_osm, osm),
             free_water_clearance_ml_h: kidney::free_water_clearance(urine_ml_h, f.urine_osm, osm),
+            ..state
         }
     }
 }

@@ -14,7 +14,7 @@ use std::io::Write;
 use std::path::{Path, PathBuf};
 use tidewater::limits::{Direction, LimitChoice, Severity};
 use tidewater::scenario::Scenario;
-use tidewater::sweep::{self, MemberRunner, ScenarioRunner, Shard, SweepSpec};
+use tidewater::sweep::{self, ScenarioRunner, Shard, SweepSpec};
 use tidewater::InputError;
 
 /// Read a sweep spec and load its base scenario (the script path is
@@ -215,16 +215,7 @@ fn run_members(
                 .map_err(|e| e.to_string())
         },
         |runner, _, &i| {
-            let member = spec.member(i);
-            let overrides: Vec<(String, f64)> = spec
-                .parameters
-                .iter()
-                .zip(member.values.iter())
-                .map(|(p, v)| (p.name.clone(), *v))
-                .collect();
-            let balance = sweep::checks_balance(spec, member.index);
-            let outcome = runner.run_member(&overrides, balance);
-            let row = sweep::result_row(spec, &member, duration_h, &outcome);
+            let row = sweep::member_row(spec, i, duration_h, runner);
             member_done();
             row + "\n"
         },

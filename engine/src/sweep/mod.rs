@@ -79,8 +79,8 @@ pub use rows::{
     FailedMember, Outcomes,
 };
 pub use runner::{
-    apply_overrides, check_script_settings, run_sweep, set_patient_field, MemberRunner, PlanRunner,
-    Progress, ScenarioRunner,
+    apply_overrides, check_script_settings, member_row, run_sweep, set_patient_field, MemberRunner,
+    PlanRunner, Progress, ScenarioRunner,
 };
 pub use spec::{Design, Distribution, SweepOutputs, SweepParameter, SweepSpec, MAX_MEMBERS};
 pub use stats::{Histogram, Moments};

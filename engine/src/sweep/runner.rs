@@ -34,6 +34,27 @@ pub trait MemberRunner {
     }
 }
 
+/// Run member `index` of `spec` with `runner` and give its result row
+/// (without the line end): its overrides, the mass balance only where the
+/// row reports it ([`super::checks_balance`]).
+pub fn member_row(
+    spec: &SweepSpec,
+    index: usize,
+    duration_h: f64,
+    runner: &mut impl MemberRunner,
+) -> String {
+    let member = spec.member(index);
+    let overrides: Vec<(String, f64)> = spec
+        .parameters
+        .iter()
+        .zip(member.values.iter())
+        .map(|(p, v)| (p.name.clone(), *v))
+        .collect();
+    let balance = super::checks_balance(spec, member.index);
+    let outcome = runner.run_member(&overrides, balance);
+    result_row(spec, &member, duration_h, &outcome)
+}
+
 /// Set a numeric patient field by name (`weight_kg`, `na`, ...).
 pub fn set_patient_field(
     patient: &mut crate::patient::Patient,
@@ -287,16 +308,7 @@ where
                     if k >= todo.len() || failure.lock().expect("lock").is_some() {
                         break;
                     }
-                    let member = spec.member(todo[k]);
-                    let overrides: Vec<(String, f64)> = spec
-                        .parameters
-                        .iter()
-                        .zip(member.values.iter())
-                        .map(|(p, v)| (p.name.clone(), *v))
-                        .collect();
-                    let balance = super::checks_balance(spec, member.index);
-                    let outcome = runner.run_member(&overrides, balance);
-                    let row = result_row(spec, &member, duration_h, &outcome);
+                    let row = member_row(spec, todo[k], duration_h, &mut runner);
                     let mut w = writer.lock().expect("lock");
                     if let Err(e) = w.put(k, row) {
                         *failure.lock().expect("lock") = Some(SweepError::io(&file_name, e));

@@ -143,21 +143,44 @@ pub struct Trajectory {
 
 /// Value of a piecewise-linear series at time `t` (clamped at the ends).
 pub fn interpolate(times: &[f64], values: &[f64], t: f64) -> f64 {
-    if times.is_empty() {
+    interpolate_by(times.len(), |i| times[i], |i| values[i], t)
+}
+
+/// [`interpolate`] over `n` points whose times (ascending) and values are
+/// read by index: the one place the series of a run are read between
+/// their samples.
+fn interpolate_by(
+    n: usize,
+    time: impl Fn(usize) -> f64,
+    value: impl Fn(usize) -> f64,
+    t: f64,
+) -> f64 {
+    if n == 0 {
         return f64::NAN;
     }
-    if t <= times[0] {
-        return values[0];
+    if t <= time(0) {
+        return value(0);
     }
-    let j = times.partition_point(|&x| x < t);
-    if j >= times.len() {
-        return values[values.len() - 1];
+    // The first point at or after `t` (as `partition_point` finds it).
+    let (mut lo, mut hi) = (0, n);
+    while lo < hi {
+        let mid = lo + (hi - lo) / 2;
+        if time(mid) < t {
+            lo = mid + 1;
+        } else {
+            hi = mid;
+        }
     }
-    let (t0, t1) = (times[j - 1], times[j]);
+    let j = lo;
+    if j >= n {
+        return value(n - 1);
+    }
+    let (t0, t1) = (time(j - 1), time(j));
     if t1 - t0 <= 0.0 {
-        return values[j];
+        return value(j);
     }
-    values[j - 1] + (values[j] - values[j - 1]) * (t - t0) / (t1 - t0)
+    let (v0, v1) = (value(j - 1), value(j));
+    v0 + (v1 - v0) * (t - t0) / (t1 - t0)
 }
 
 /// Change over a trailing window: `v(t) − v(max(t₀, t − window))` (the
@@ -298,22 +321,7 @@ impl Trajectory {
     /// the series `f` gives, without building the series (same bits).
     pub fn value_at(&self, t: f64, f: impl Fn(&Sample) -> f64) -> f64 {
         let samples = &self.samples;
-        let Some(first) = samples.first() else {
-            return f64::NAN;
-        };
-        if t <= first.time_h {
-            return f(first);
-        }
-        let j = samples.partition_point(|s| s.time_h < t);
-        if j >= samples.len() {
-            return f(&samples[samples.len() - 1]);
-        }
-        let (a, b) = (&samples[j - 1], &samples[j]);
-        if b.time_h - a.time_h <= 0.0 {
-            return f(b);
-        }
-        let (va, vb) = (f(a), f(b));
-        va + (vb - va) * (t - a.time_h) / (b.time_h - a.time_h)
+        interpolate_by(samples.len(), |i| samples[i].time_h, |i| f(&samples[i]), t)
     }
 
     /// The last sample.

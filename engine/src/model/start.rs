@@ -207,7 +207,7 @@ pub fn share_drinking_with_thirst(
         let m = probe(calibration);
         let u = m.habitual_inputs().plus(&standing);
         thirst = m.fluxes(y, &u).thirst_water_l_h;
-        let plasma_osm = m.observe(y, &u).osmolality_mosm_kg;
+        let plasma_osm = m.observe_state(y).osmolality_mosm_kg;
         let food = units::per_day_to_per_h(p.food_water_l_day).min(calibration.habitual_water_l_h);
         let drinks = calibration.habitual_water_l_h - food;
         if thirst > drinks && p.thirst_threshold_mosm_kg <= 0.0 {
